@@ -1,0 +1,232 @@
+"""Reading and writing audio: the only module that imports soundfile.
+
+Audio is returned at its native sample rate and native scale (float64, full
+scale = 1.0 for integer formats); it is never resampled or normalised.  Long
+files are streamed in blocks so memory does not grow with file length.
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Iterator, Union
+
+import numpy as np
+
+from .errors import AudioFormatError, AudioInputError, SignalValueError
+from .outputs import atomic_output
+
+__all__ = [
+    "AudioInfo",
+    "MIN_SAMPLE_RATE_HZ",
+    "MAX_SAMPLE_RATE_HZ",
+    "info",
+    "blocks",
+    "read",
+    "write",
+    "Channel",
+]
+
+#: Lowest and highest sample rates voiceband accepts (Hz).
+MIN_SAMPLE_RATE_HZ = 8000
+MAX_SAMPLE_RATE_HZ = 192000
+#: Default streaming block length in frames (about 5.5 s at 48 kHz).
+DEFAULT_BLOCK_FRAMES = 1 << 18
+
+Channel = Union[int, str]  # channel index, or "mix" for the mean of all channels
+
+
+@dataclass(frozen=True)
+class AudioInfo:
+    """What the file header says, checked for sanity.
+
+    Attributes
+    ----------
+    path : str
+    sample_rate_hz : int
+    channels : int
+    frames : int
+        Samples per channel.
+    duration_s : float
+    format : str
+        Container, as libsndfile names it (``WAV``, ``FLAC``, ``OGG``, ``MP3`` ...).
+    subtype : str
+        Sample encoding (``PCM_16``, ``FLOAT`` ...).
+    """
+
+    path: str
+    sample_rate_hz: int
+    channels: int
+    frames: int
+    duration_s: float
+    format: str
+    subtype: str
+
+
+def _sf():
+    import soundfile
+
+    return soundfile
+
+
+def info(path: Union[str, os.PathLike]) -> AudioInfo:
+    """Read and validate the header of an audio file.
+
+    Raises
+    ------
+    AudioInputError
+        The path does not exist, is a folder, or cannot be read.
+    AudioFormatError
+        The file is not audio libsndfile can decode, is empty, or its sample
+        rate is outside 8–192 kHz.
+    """
+    p = Path(path)
+    if not p.exists():
+        raise AudioInputError(f"No such file: '{p}'.")
+    if p.is_dir():
+        raise AudioInputError(f"'{p}' is a folder, not an audio file.")
+    if not os.access(p, os.R_OK):
+        raise AudioInputError(f"'{p}' cannot be read (permission denied).")
+    if p.stat().st_size == 0:
+        raise AudioFormatError(f"'{p}' is empty (0 bytes).")
+    sf = _sf()
+    try:
+        i = sf.info(str(p))
+    except Exception as exc:  # libsndfile raises a generic error for every failure
+        raise AudioFormatError(
+            f"'{p}' is not an audio file voiceband can read ({_short(exc)})."
+        ) from None
+    if i.frames <= 0:
+        raise AudioFormatError(f"'{p}' contains no audio samples.")
+    if not MIN_SAMPLE_RATE_HZ <= i.samplerate <= MAX_SAMPLE_RATE_HZ:
+        raise AudioFormatError(
+            f"'{p}' has a sample rate of {i.samplerate} Hz; voiceband needs "
+            f"{MIN_SAMPLE_RATE_HZ}–{MAX_SAMPLE_RATE_HZ} Hz."
+        )
+    if i.channels < 1:
+        raise AudioFormatError(f"'{p}' reports {i.channels} channels.")
+    return AudioInfo(
+        path=str(p),
+        sample_rate_hz=int(i.samplerate),
+        channels=int(i.channels),
+        frames=int(i.frames),
+        duration_s=float(i.frames) / float(i.samplerate),
+        format=str(i.format),
+        subtype=str(i.subtype),
+    )
+
+
+def _short(exc: Exception) -> str:
+    text = str(exc).strip().splitlines()[-1] if str(exc).strip() else type(exc).__name__
+    text = text.replace("Error opening", "error opening")
+    return text[:160].rstrip(".")
+
+
+def _check_channel(channel: Channel, channels: int) -> Channel:
+    if isinstance(channel, str):
+        if channel == "mix":
+            return channel
+        try:
+            channel = int(channel)
+        except ValueError:
+            raise AudioFormatError(
+                f"channel must be a number from 0 to {channels - 1} or 'mix', not '{channel}'."
+            ) from None
+    if not 0 <= int(channel) < channels:
+        raise AudioFormatError(
+            f"channel {channel} does not exist: the file has {channels} channel(s), numbered from 0."
+        )
+    return int(channel)
+
+
+def _select(data: np.ndarray, channel: Channel) -> np.ndarray:
+    if channel == "mix":
+        return data.mean(axis=1)
+    return np.ascontiguousarray(data[:, channel])
+
+
+def blocks(
+    path: Union[str, os.PathLike],
+    *,
+    channel: Channel = 0,
+    block_frames: int = DEFAULT_BLOCK_FRAMES,
+    audio_info: AudioInfo | None = None,
+) -> Iterator[np.ndarray]:
+    """Stream one channel of a file as consecutive float64 blocks at native scale.
+
+    Parameters
+    ----------
+    path : path-like
+    channel : int or "mix"
+        Channel index from 0, or ``"mix"`` for the mean of all channels.
+    block_frames : int
+        Samples per block (the last block may be shorter).
+
+    Yields
+    ------
+    numpy.ndarray
+        1-D float64 samples, full scale = ±1.0.
+
+    Raises
+    ------
+    AudioFormatError
+        The file is truncated or corrupt part-way through.
+    """
+    ai = audio_info or info(path)
+    ch = _check_channel(channel, ai.channels)
+    sf = _sf()
+    try:
+        with sf.SoundFile(ai.path) as f:
+            while True:
+                data = f.read(block_frames, dtype="float64", always_2d=True)
+                if data.shape[0] == 0:
+                    break
+                yield _select(data, ch)
+    except (RuntimeError, sf.LibsndfileError) as exc:  # pragma: no cover - depends on libsndfile
+        raise AudioFormatError(f"'{ai.path}' could not be decoded to the end ({_short(exc)}).") from None
+
+
+def read(
+    path: Union[str, os.PathLike], *, channel: Channel = 0
+) -> tuple[np.ndarray, int]:
+    """Read one channel of a whole file: ``(samples float64 at native scale, sample_rate_hz)``.
+
+    Use :func:`blocks` for long files.
+    """
+    ai = info(path)
+    parts = list(blocks(path, channel=channel, audio_info=ai))
+    x = np.concatenate(parts) if parts else np.zeros(0)
+    return x, ai.sample_rate_hz
+
+
+def write(
+    path: Union[str, os.PathLike],
+    samples: np.ndarray,
+    sample_rate_hz: int,
+    *,
+    subtype: str = "PCM_16",
+    force: bool = False,
+) -> Path:
+    """Write samples (frames, or frames × channels; full scale ±1.0) atomically.
+
+    The format follows the file extension (``.wav``, ``.flac``, ``.ogg``).
+    Refuses to overwrite an existing file unless ``force`` is true.
+    """
+    x = np.asarray(samples, dtype=np.float64)
+    if not np.all(np.isfinite(x)):
+        raise SignalValueError("samples to write contain NaN or Inf.")
+    if not MIN_SAMPLE_RATE_HZ <= int(sample_rate_hz) <= MAX_SAMPLE_RATE_HZ:
+        raise AudioFormatError(
+            f"sample_rate_hz must be {MIN_SAMPLE_RATE_HZ}–{MAX_SAMPLE_RATE_HZ} Hz, got {sample_rate_hz}."
+        )
+    sf = _sf()
+    p = Path(path)
+    fmt = {".wav": "WAV", ".flac": "FLAC", ".ogg": "OGG"}.get(p.suffix.lower())
+    if fmt is None:
+        raise AudioFormatError(f"cannot write '{p.name}': use a .wav, .flac or .ogg file name.")
+    if fmt == "OGG":
+        subtype = "VORBIS"
+    with atomic_output(p, force=force) as tmp:
+        sf.write(str(tmp), x, int(sample_rate_hz), subtype=subtype, format=fmt)
+    return p

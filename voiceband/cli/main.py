@@ -1,0 +1,39 @@
+"""Root of the ``voiceband`` command.
+
+Each command lives in its own module under ``voiceband.cli``; add a row to
+``_COMMANDS`` to register one.  Command modules import heavy libraries inside
+the command function, so start-up stays lean.
+"""
+
+from __future__ import annotations
+
+import importlib
+
+import typer
+
+app = typer.Typer(
+    name="voiceband",
+    help="Measure and model the transmit audio of voice radio: levels, clipping, hum, "
+    "noise, bandwidth and speech intelligibility.",
+    no_args_is_help=True,
+    add_completion=False,
+    pretty_exceptions_enable=False,
+    rich_markup_mode=None,
+)
+
+# (command name, module, function)
+_COMMANDS = [
+    ("analyze", "voiceband.cli.analyze", "analyze"),
+]
+
+for _name, _module, _func in _COMMANDS:
+    app.command(_name)(getattr(importlib.import_module(_module), _func))
+
+
+def main() -> None:
+    """Console-script entry point."""
+    app()
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

@@ -1,0 +1,1 @@
+"""Output side: JSON serialisation, plots (the only matplotlib import), HTML."""

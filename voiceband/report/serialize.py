@@ -1,0 +1,55 @@
+"""JSON serialisation of results: dataclasses, numpy values, and null for non-finite numbers."""
+
+from __future__ import annotations
+
+import dataclasses
+import enum
+import json
+import math
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+__all__ = ["to_jsonable", "dumps_json", "write_json"]
+
+
+def to_jsonable(obj: Any) -> Any:
+    """Convert ``obj`` to plain JSON types; NaN and ±Inf become ``None`` (JSON null)."""
+    if obj is None or isinstance(obj, (bool, str)):
+        return obj
+    if isinstance(obj, (int, np.integer)) and not isinstance(obj, bool):
+        return int(obj)
+    if isinstance(obj, (float, np.floating)):
+        v = float(obj)
+        return v if math.isfinite(v) else None
+    if isinstance(obj, np.bool_):
+        return bool(obj)
+    if isinstance(obj, np.ndarray):
+        return [to_jsonable(v) for v in obj.tolist()]
+    if isinstance(obj, enum.Enum):
+        return to_jsonable(obj.value)
+    if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
+        return {f.name: to_jsonable(getattr(obj, f.name)) for f in dataclasses.fields(obj)}
+    if isinstance(obj, dict):
+        return {str(k): to_jsonable(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [to_jsonable(v) for v in obj]
+    if isinstance(obj, Path):
+        return str(obj)
+    raise TypeError(f"cannot serialise {type(obj).__name__} to JSON")
+
+
+def dumps_json(data: Any) -> str:
+    """JSON text with NaN/Inf as null (never the non-standard ``NaN`` token)."""
+    return json.dumps(to_jsonable(data), indent=2, allow_nan=False)
+
+
+def write_json(data: Any, path: Path, *, force: bool = False) -> Path:
+    """Write JSON atomically; refuse to overwrite without ``force``."""
+    from ..outputs import atomic_output
+
+    text = dumps_json(data)
+    with atomic_output(path, force=force) as tmp:
+        tmp.write_text(text + "\n", encoding="utf-8")
+    return path
