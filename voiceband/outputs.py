@@ -9,7 +9,19 @@ from typing import Union
 
 from .errors import OutputExistsError
 
-__all__ = ["atomic_output"]
+__all__ = ["atomic_output", "check_writable"]
+
+
+def check_writable(path: Union[str, os.PathLike], *, force: bool = False) -> None:
+    """Raise :class:`OutputExistsError` now if ``path`` exists and ``force`` is false.
+
+    Commands call this before long work so a refusal comes first, not after the work.
+    """
+    p = Path(path)
+    if p.is_dir():
+        raise OutputExistsError(f"'{p}' is a folder; give a file name.")
+    if p.exists() and not force:
+        raise OutputExistsError(f"'{p}' already exists; use --force to overwrite it.")
 
 
 def atomic_output(path: Union[str, os.PathLike], *, force: bool = False) -> "_AtomicPath":
