@@ -1,0 +1,1 @@
+"""Synthetic speech, noise and test signals (sweep, multitone, two-tone, tones)."""
