@@ -365,6 +365,20 @@ def test_minus_inf_noise_is_quiet():
     assert sii(u, np.full(18, -np.inf)).index == pytest.approx(0.99582517, abs=1e-6)
 
 
+@pytest.mark.parametrize("rows", [1, 5000])
+def test_minus_inf_speech_and_noise_together_give_no_nan(rows):
+    # Bands with neither speech nor noise (-inf, e.g. outside a filter's passband) contribute A = 0.
+    speech = np.tile(normal_speech(), (rows, 1))
+    speech[:, 12:] = -np.inf
+    noise = np.full((rows, 18), -np.inf)
+    noise[:, :3] = 20.0
+    r = sii(speech, noise)
+    for arr in (r.Z, r.D, r.K, r.L, r.A, r.index):
+        assert not np.any(np.isnan(arr))
+    np.testing.assert_array_equal(r.A[:, 12:], 0.0)
+    np.testing.assert_allclose(r.index, r.index[0])
+
+
 def test_batch_shapes_and_float_index():
     u = normal_speech()
     r1 = sii(u)

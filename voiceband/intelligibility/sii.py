@@ -191,6 +191,8 @@ class _Engine:
     slope_term_db: np.ndarray  # the bracketed constant of Eq. 6 or 7, per masker band k
     spread_gain: np.ndarray  # [k, i]: ln(10) * [0.1 + 0.332 * 0.6 * log10(ratio_ik)] -- multiplies B_k
     spread_offset: np.ndarray  # [k, i]: ln(10) * 0.332 * log10(ratio_ik) * (-80 + 0.6 * slope_term_k)
+    dense_gain: np.ndarray  # [i, k]: spread_gain transposed, 0 where k >= i
+    dense_offset: np.ndarray  # [i, k]: spread_offset transposed, -inf where k >= i
     normal_speech_db: np.ndarray  # U of Eq. 11: normal-effort spectrum of the procedure
 
 
@@ -215,13 +217,18 @@ def _engine(procedure: str) -> _Engine:
     # 10**(0.1 [B_k + 3.32 C_k g]) = exp(B_k * gain + offset), with C_k = -80 + 0.6 (B_k + s_k).
     gain = ln10 * (0.1 + 0.1 * _OCTAVES_PER_DECADE * _SLOPE_FACTOR * g)
     offset = ln10 * 0.1 * _OCTAVES_PER_DECADE * g * (_SLOPE_OFFSET_DB + _SLOPE_FACTOR * slope_term[:, None])
-    for arr in (slope_term, gain, offset):
+    below = np.tril(np.ones((n, n), dtype=bool), k=-1)  # [i, k]: k < i
+    dense_gain = np.where(below, gain.T, 0.0)
+    dense_offset = np.where(below, offset.T, -np.inf)
+    for arr in (slope_term, gain, offset, dense_gain, dense_offset):
         arr.setflags(write=False)
     return _Engine(
         table=table,
         slope_term_db=slope_term,
         spread_gain=gain,
         spread_offset=offset,
+        dense_gain=dense_gain,
+        dense_offset=dense_offset,
         normal_speech_db=table.speech_spectrum_db["normal"],
     )
 
@@ -233,6 +240,11 @@ def _upward_spread(b: np.ndarray, eng: _Engine) -> np.ndarray:
     rows), which keeps the temporaries small and contiguous.
     """
     n = b.shape[-1]
+    b = np.maximum(b, _NO_POWER_DB)  # -inf (no power) as a finite level whose terms underflow to 0
+    if b.shape[0] <= _SMALL_BATCH_ROWS:
+        # Few rows: all (i, k) pairs in one step; pairs with k >= i carry an offset of -inf (term 0).
+        terms = np.exp(b[:, None, :] * eng.dense_gain + eng.dense_offset)  # (rows, i, k)
+        return terms.sum(axis=-1)
     bt = np.ascontiguousarray(b.T)  # (n_bands, rows)
     acc = np.zeros_like(bt)
     for k in range(n - 1):
@@ -247,6 +259,8 @@ def _upward_spread(b: np.ndarray, eng: _Engine) -> np.ndarray:
 _E, _N, _T, _V, _B, _C, _Z, _X, _D, _L, _K, _A = range(12)
 _N_FIELDS = 12
 _CHUNK_ROWS = 2048  # rows per step: temporaries of 2048 x 21 doubles stay in cache
+_NO_POWER_DB = -1.0e6  # stands in for -inf inside the spread-of-masking sum (avoids -inf * 0)
+_SMALL_BATCH_ROWS = 16  # up to this many rows the spread of masking is one dense step
 
 
 def _chain(out: np.ndarray, eng: _Engine) -> None:
