@@ -11,7 +11,6 @@ Table 3, and the 18 one-third-octave SII bands are taken from the given bands.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Union
 
 import numpy as np
 

@@ -236,8 +236,9 @@ def _engine(procedure: str) -> _Engine:
 def _upward_spread(b: np.ndarray, eng: _Engine) -> np.ndarray:
     """Sum over lower bands k < i of 10**(0.1 [B_k + 3.32 C_k log10(r_ik)]) (Eqs. 8 and 9).
 
-    ``b`` has shape (rows, n_bands). Works band-major (one vectorised step per masker band over all
-    rows), which keeps the temporaries small and contiguous.
+    ``b`` has shape (rows, n_bands). A few rows take one dense step over all (i, k) pairs; more rows work
+    band-major (one vectorised step per masker band over all rows), which keeps the temporaries small
+    and contiguous.
     """
     n = b.shape[-1]
     b = np.maximum(b, _NO_POWER_DB)  # -inf (no power) as a finite level whose terms underflow to 0
