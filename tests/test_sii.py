@@ -400,6 +400,15 @@ def test_custom_importance_array_and_batched_importance():
     np.testing.assert_allclose(rb.index, [r.index, sii(u).index], atol=1e-12)
 
 
+def test_names_ignore_case_and_underscores_and_accept_aliases():
+    u = normal_speech()
+    r = sii(u, procedure="One_Third_Octave", importance="CID_22")
+    assert r.procedure == "one-third-octave"
+    np.testing.assert_array_equal(r.band_importance, band_importance("cid-w22"))
+    for alias, name in (("nns", "nonsense-syllables"), ("short", "short-passages"), ("Standard", "average")):
+        np.testing.assert_array_equal(band_importance(alias), band_importance(name))
+
+
 def test_result_is_frozen_and_read_only():
     r = sii(normal_speech())
     with pytest.raises(AttributeError):

@@ -37,6 +37,7 @@ import numpy as np
 from ..errors import MeasurementError, SignalValueError
 from .tables import (
     DEFAULT_NOISE_SPECTRUM_DB,
+    IMPORTANCE_ALIASES,
     IMPORTANCE_NAMES,
     SELF_SPEECH_MASKING_DB,
     BandProcedure,
@@ -200,7 +201,7 @@ class _Engine:
 def _engine(procedure: str) -> _Engine:
     table = band_procedure(procedure)
     n = table.n_bands
-    if procedure == "one-third-octave":
+    if table.name == "one-third-octave":
         # Eq. 7: C = -80 + 0.6 [B + 10 log10(F) - 6.353]; Eq. 9: ratio = 0.89 F_i / F_k.
         f = table.centres_hz
         slope_term = 10.0 * np.log10(f) - _TO_SLOPE_REFERENCE_DB
@@ -311,7 +312,8 @@ def band_importance(importance: Union[str, ArrayLike] = "average", *, procedure:
     ----------
     importance : str or array_like
         ``"average"`` (average speech, Tables 1-4), one of the Annex B speech tests
-        ``"nonsense-syllables"``, ``"cid-w22"``, ``"nu6"``, ``"drt"``, ``"short-passages"``, ``"spin"``,
+        ``"nonsense-syllables"``, ``"cid-w22"``, ``"nu6"``, ``"drt"``, ``"short-passages"``, ``"spin"``
+        (case-insensitive; aliases in :data:`~voiceband.intelligibility.tables.IMPORTANCE_ALIASES`),
         or an array of weights whose last axis has one value per band (finite, not negative).
     procedure : str, keyword-only
         Procedure name.
@@ -334,21 +336,24 @@ def band_importance(importance: Union[str, ArrayLike] = "average", *, procedure:
     column sums to 1.000 within rounding); they are used as transcribed.
     """
     table = band_procedure(procedure)
+    procedure = table.name
     if isinstance(importance, str):
-        if importance == "average":
+        key = importance.strip().lower().replace("_", "-").replace(" ", "-")
+        key = IMPORTANCE_ALIASES.get(key, key)
+        if key == "average":
             return table.importance
-        if importance not in IMPORTANCE_NAMES:
+        if key not in IMPORTANCE_NAMES:
             raise MeasurementError(
                 f"importance must be one of {', '.join(IMPORTANCE_NAMES)} or an array of {table.n_bands} "
                 f"weights; got {importance!r}."
             )
-        if importance not in table.annex_b_importance:
+        if key not in table.annex_b_importance:
             raise MeasurementError(
                 f"importance {importance!r} has no table for the {procedure} procedure "
                 f"(ANSI S3.5-1997 Annex B covers critical-band, one-third-octave and octave); "
                 f"use 'average' or pass an array of {table.n_bands} weights."
             )
-        return table.annex_b_importance[importance]
+        return table.annex_b_importance[key]
     try:
         weights = np.array(importance, dtype=np.float64)
     except (TypeError, ValueError):
@@ -452,7 +457,8 @@ def sii(
     ANSI/ASA S3.5-1997 (R2017), *Methods for Calculation of the Speech Intelligibility Index*, clause 4
     and Tables 1-4.
     """
-    eng = _engine(procedure)  # validates the name
+    procedure = band_procedure(procedure).name  # validates the name; canonical spelling
+    eng = _engine(procedure)
     table = eng.table
     n = table.n_bands
     weights = band_importance(importance, procedure=procedure)

@@ -34,6 +34,7 @@ __all__ = [
     "PROCEDURES",
     "VOCAL_EFFORTS",
     "IMPORTANCE_NAMES",
+    "IMPORTANCE_ALIASES",
     "OVERALL_SPEECH_LEVEL_DB_SPL",
     "SELF_SPEECH_MASKING_DB",
     "DEFAULT_NOISE_SPECTRUM_DB",
@@ -71,6 +72,22 @@ DEFAULT_NOISE_SPECTRUM_DB: float = -50.0
 
 #: Binaural listening lowers the equivalent hearing threshold by 1.7 dB (ANSI S3.5-1997 clause 5.1.5).
 BINAURAL_THRESHOLD_ADVANTAGE_DB: float = 1.7
+
+#: Other accepted spellings of the importance names (after lower-casing and turning "_" and " " into "-").
+IMPORTANCE_ALIASES: Mapping[str, str] = MappingProxyType(
+    {
+        "standard": "average",
+        "nns": "nonsense-syllables",
+        "nonsense": "nonsense-syllables",
+        "cid-22": "cid-w22",
+        "cid22": "cid-w22",
+        "cidw22": "cid-w22",
+        "w22": "cid-w22",
+        "w-22": "cid-w22",
+        "nu-6": "nu6",
+        "short": "short-passages",
+    }
+)
 
 #: Names of the Annex B band-importance functions, besides "average" (Tables 1-4).
 #: nonsense-syllables: various nonsense-syllable tests in which most English phonemes occur equally
@@ -374,6 +391,7 @@ def band_procedure(procedure: str) -> BandProcedure:
     Parameters
     ----------
     procedure : {"critical-band", "equal-critical-band", "one-third-octave", "octave"}
+        Case and underscores are ignored ("One_Third_Octave" works).
 
     Returns
     -------
@@ -386,8 +404,8 @@ def band_procedure(procedure: str) -> BandProcedure:
         If ``procedure`` is not one of :data:`PROCEDURES`.
     """
     try:
-        return _PROCEDURE_TABLES[procedure]
-    except (KeyError, TypeError):
+        return _PROCEDURE_TABLES[procedure.strip().lower().replace("_", "-")]
+    except (KeyError, TypeError, AttributeError):
         raise MeasurementError(
             f"procedure must be one of {', '.join(PROCEDURES)}; got {procedure!r}."
         ) from None
