@@ -13,6 +13,7 @@ from voiceband.intelligibility import (
     binaural_threshold,
     eardrum_to_free_field,
     free_field_to_eardrum,
+    levels_from_mtf,
     overall_level_db,
     sii,
     spectrum_to_band_level,
@@ -79,6 +80,29 @@ def test_free_field_to_eardrum_table_3_values():
     ed = free_field_to_eardrum(ff)
     assert (ed[0], ed[12], ed[17]) == (0.0, 16.8, 1.8)
     np.testing.assert_allclose(eardrum_to_free_field(ed), ff, atol=1e-12)
+
+
+def test_mtf_method_check_value():
+    # Reference notes section 1.2 (clause 5.2 check, speech-intelligibility-index test against a Matlab
+    # implementation): CSNSL = 50 dB in all bands, m = 1 -> E' = 49.8648 dB, N' = 34.8648 dB.
+    speech, noise = levels_from_mtf(np.full(18, 50.0), np.ones((18, 9)))
+    np.testing.assert_allclose(speech, 49.8648, atol=1e-4)
+    np.testing.assert_allclose(noise, 34.8648, atol=1e-4)
+
+
+def test_mtf_method_analytic_and_eardrum():
+    # Eq. 22: m = 0.5 is an apparent SNR of 0 dB, so E' = N' = CSNSL - 3.01 dB (Eqs. 23-24); clause 5.3
+    # subtracts the free-field-to-eardrum function (Eqs. 27-28).
+    speech, noise = levels_from_mtf(np.full(18, 40.0), np.full((18, 9), 0.5))
+    np.testing.assert_allclose(speech, 40.0 - 10 * np.log10(2), atol=1e-12)
+    np.testing.assert_allclose(noise, speech, atol=1e-12)
+    s_ed, n_ed = levels_from_mtf(np.full(18, 40.0), np.full((18, 9), 0.5), at_eardrum=True)
+    np.testing.assert_allclose(speech - s_ed, band_procedure("one-third-octave").free_field_to_eardrum_db)
+    # m = 0 limits the apparent SNR at -15 dB (clause 5.2.3.5).
+    speech0, noise0 = levels_from_mtf(np.full(18, 40.0), np.zeros((18, 9)))
+    np.testing.assert_allclose(speech0 - noise0, -15.0, atol=1e-12)
+    with pytest.raises(SignalValueError, match="between 0 and 1"):
+        levels_from_mtf(np.full(18, 40.0), np.full((18, 9), 1.5))
 
 
 def test_bad_band_count():

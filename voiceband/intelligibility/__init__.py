@@ -3,7 +3,7 @@
 * :func:`sii` -- the SII calculation chain of ANSI S3.5-1997 clause 4, all four procedures
   (critical band, equally-contributing critical band, one-third octave, octave), batched.
 * :mod:`.inputs` -- clause 5.1 helpers: band <-> spectrum level, standard speech at a vocal effort and
-  distance, insertion gain, binaural listening, free-field-to-eardrum transfer.
+  distance, insertion gain, binaural listening, free-field-to-eardrum transfer; clauses 5.2-5.3 MTF input.
 * :func:`band_gains_db` -- SII band gains of a filter from its frequency response (power average).
 * :func:`channel_sii`, :func:`sii_vs_channel_snr` -- speech through a filter with channel noise.
 * :func:`recording_intelligibility` -- SII of a recording from its dBFS band levels.
@@ -22,11 +22,13 @@ from .channel import (
 )
 from .filters import band_gains_db, brick_wall_band_gains_db
 from .inputs import (
+    MODULATION_FREQUENCIES_HZ,
     apply_insertion_gain,
     band_to_spectrum_level,
     binaural_threshold,
     eardrum_to_free_field,
     free_field_to_eardrum,
+    levels_from_mtf,
     overall_level_db,
     spectrum_to_band_level,
     standard_speech_spectrum,
@@ -59,6 +61,8 @@ __all__ = [
     "binaural_threshold",
     "eardrum_to_free_field",
     "free_field_to_eardrum",
+    "levels_from_mtf",
+    "MODULATION_FREQUENCIES_HZ",
     "band_gains_db",
     "brick_wall_band_gains_db",
     "ChannelSIIPoint",

@@ -8,7 +8,9 @@ These helpers produce them:
 * an insertion gain applied to measured speech or noise (Eqs. 17 and 18);
 * the binaural-listening threshold (clause 5.1.5);
 * the free-field-to-eardrum transfer function (Tables 1-4), for levels measured at the eardrum
-  (clause 5.3, Eqs. 27 and 28).
+  (clause 5.3, Eqs. 27 and 28);
+* speech and noise levels from a modulation transfer function and the combined speech-and-noise
+  spectrum level (clauses 5.2 and 5.3, Eqs. 22-28).
 """
 
 from __future__ import annotations
@@ -33,7 +35,13 @@ __all__ = [
     "binaural_threshold",
     "eardrum_to_free_field",
     "free_field_to_eardrum",
+    "MODULATION_FREQUENCIES_HZ",
+    "levels_from_mtf",
 ]
+
+#: Modulation frequencies of the MTF method, Hz (ANSI S3.5-1997 clause 5.2.3.3).
+MODULATION_FREQUENCIES_HZ: tuple[float, ...] = (0.5, 1.0, 1.5, 2.0, 3.0, 4.0, 6.0, 8.0, 16.0)
+_APPARENT_SNR_LIMIT_DB = 15.0  # clause 5.2.3.5: apparent SNR limited to +-15 dB
 
 ArrayLike = Union[float, np.ndarray, list, tuple]
 
@@ -208,3 +216,58 @@ def free_field_to_eardrum(free_field_level_db: ArrayLike, *, procedure: str = "o
     function of Tables 1-4 (the inverse of :func:`eardrum_to_free_field`)."""
     table = band_procedure(procedure)
     return _band_array(free_field_level_db, "free_field_level_db", table.n_bands, procedure) + table.free_field_to_eardrum_db
+
+
+def levels_from_mtf(
+    combined_spectrum_db: ArrayLike,
+    mtf: ArrayLike,
+    *,
+    procedure: str = "one-third-octave",
+    at_eardrum: bool = False,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Equivalent speech and noise spectrum levels from an MTF measurement (ANSI S3.5-1997 clauses 5.2-5.3).
+
+    Per band: apparent SNR = 10 log10(m / (1 - m)) limited to +-15 dB (Eq. 22) and averaged over the
+    modulation frequencies (5.2.3.6); E' = SNR + 10 log10(10^(CSNSL/10) / (1 + 10^(SNR/10))) (Eq. 23);
+    N' = E' - SNR (Eq. 24). Levels measured at the eardrum (clause 5.3) are moved to the free field by
+    subtracting the free-field-to-eardrum transfer function (Eqs. 27 and 28).
+
+    Parameters
+    ----------
+    combined_spectrum_db : array_like, shape (..., n_bands)
+        Combined speech-and-noise spectrum level CSNSL, dB per Hz (clause 3.17).
+    mtf : array_like, shape (..., n_bands, n_modulation)
+        Modulation transfer function for intensity, 0..1, at the modulation frequencies of
+        :data:`MODULATION_FREQUENCIES_HZ` (clause 5.2.3.3; any number of columns is averaged).
+    procedure : str, keyword-only
+        SII procedure.
+    at_eardrum : bool, keyword-only
+        True when CSNSL was measured at the eardrum (clause 5.3).
+
+    Returns
+    -------
+    speech_db, noise_db : ndarray
+        Equivalent speech and noise spectrum levels E' and N', dB per Hz.
+    """
+    table = band_procedure(procedure)
+    n = table.n_bands
+    csnsl = _band_array(combined_spectrum_db, "combined_spectrum_db", n, procedure)
+    if not np.all(np.isfinite(csnsl)):
+        raise SignalValueError("combined_spectrum_db must be finite dB values.")
+    try:
+        m = np.asarray(mtf, dtype=np.float64)
+    except (TypeError, ValueError):
+        raise SignalValueError("mtf must be numbers between 0 and 1.") from None
+    if m.ndim < 2 or m.shape[-2] != n:
+        raise SignalValueError(f"mtf must have shape (..., {n}, n_modulation); got {m.shape}.")
+    if not np.all(np.isfinite(m)) or np.any(m < 0) or np.any(m > 1):
+        raise SignalValueError("mtf values must lie between 0 and 1.")
+    with np.errstate(divide="ignore"):
+        apparent = 10.0 * np.log10(m) - 10.0 * np.log10(1.0 - m)  # Eq. 22
+    apparent = np.clip(apparent, -_APPARENT_SNR_LIMIT_DB, _APPARENT_SNR_LIMIT_DB).mean(axis=-1)
+    speech = apparent + csnsl - 10.0 * np.log10(1.0 + 10.0 ** (apparent / 10.0))  # Eq. 23
+    noise = speech - apparent  # Eq. 24
+    if at_eardrum:
+        speech = speech - table.free_field_to_eardrum_db  # Eq. 27
+        noise = noise - table.free_field_to_eardrum_db  # Eq. 28
+    return speech, noise
