@@ -1,0 +1,12 @@
+"""Measuring a chain's response from a recorded test signal (sweep or steady tones).
+
+The entry point is :func:`measure_response`; the modules below it each do one step:
+``stimulus`` (what the test signal is), ``align`` (delay, sample rate, clock drift),
+``offset`` (SSB carrier offset, per-tone tracking), ``deconvolve`` (sweep to impulse
+responses), ``metrics`` (edges, ripple), ``quality`` (silent or clipped recordings).
+"""
+
+from .measure import HarmonicLevel, ResponseResult, measure_response
+from .metrics import PassbandEdges
+
+__all__ = ["measure_response", "ResponseResult", "HarmonicLevel", "PassbandEdges"]

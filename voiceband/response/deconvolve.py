@@ -1,0 +1,318 @@
+"""Sweep deconvolution, impulse-response windowing and harmonic separation.
+
+The recording y of an exponential sweep x through a weakly nonlinear chain is
+deconvolved by regularised spectral division,
+
+    h = IFFT[ Y·X* / (|X|² + ε(f)) ],
+
+with both signals zero-padded to at least len(x) + len(y) so the result is a linear (not
+circular) deconvolution; negative lags wrap to the end of ``h``.  Inside the sweep's band
+ε is 80 dB below the stimulus's median in-band power, so the division is exact there; outside
+it ε rises to the in-band level, so nothing is amplified where the sweep put no energy.
+Dividing by the sweep's own spectrum is what Farina's inverse filter (a time-reversed
+sweep with a −6 dB/octave envelope, :func:`voiceband.synth.sweep.inverse_filter`) does
+approximately; the division also cancels the sweep's fades exactly.
+
+Because an exponential sweep spends the same time in every octave, the k-th harmonic of
+the chain's output appears as an impulse response L·ln k *before* the linear one
+(L = T/ln(f2/f1)).  Time windows cut the linear response and each harmonic's response;
+the spectrum of the k-th window at output frequency k·f is the k-th harmonic's amplitude
+for an input at f, relative to the input amplitude.
+
+References
+----------
+A. Farina, AES 108th Convention, preprint 5093, 2000 (harmonic responses at −L·ln k).
+S. Müller and P. Massarani, "Transfer-function measurement with sweeps", JAES 49(6), 2001
+(spectral division, regularisation outside the band).  Both as summarised in trade-facts
+§7; the regularisation levels are this module's choice.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import MeasurementError
+
+__all__ = [
+    "Deconvolution",
+    "IRWindow",
+    "SeparatedResponses",
+    "deconvolve",
+    "separate_harmonics",
+    "window_response",
+    "window_group_delay_s",
+    "deconvolved_noise_power",
+    "IN_BAND_REGULARISATION_DB",
+]
+
+#: ε inside the sweep band, relative to the stimulus's median in-band power.
+IN_BAND_REGULARISATION_DB = -80.0
+#: Longest pre-peak part of the linear window (s).
+MAX_PRE_S = 0.1
+
+
+@dataclass(frozen=True)
+class Deconvolution:
+    """A deconvolved impulse response and what is needed to judge its noise.
+
+    Attributes
+    ----------
+    impulse_response : numpy.ndarray
+        Length ``n_fft``; lag m ≥ 0 at index m, negative lags at the end.
+    sample_rate_hz : int
+    n_fft : int
+    stimulus_power : numpy.ndarray
+        |X(f)|² on the ``numpy.fft.rfftfreq(n_fft)`` grid.
+    recording_length : int
+        Samples of the recording excerpt that was deconvolved.
+    """
+
+    impulse_response: np.ndarray
+    sample_rate_hz: int
+    n_fft: int
+    stimulus_power: np.ndarray
+    recording_length: int
+
+
+@dataclass(frozen=True)
+class IRWindow:
+    """One windowed impulse response cut from a :class:`Deconvolution`.
+
+    Attributes
+    ----------
+    order : int
+        1 for the linear response, k for the k-th harmonic.
+    origin_lag : int
+        Lag (in the full response) taken as time 0 for this window's phase.
+    start_lag : int
+        Lag of ``samples[0]`` (may be negative).
+    samples : numpy.ndarray
+        The impulse response times ``taper``.
+    taper : numpy.ndarray
+        The window itself (for noise scaling).
+    """
+
+    order: int
+    origin_lag: int
+    start_lag: int
+    samples: np.ndarray
+    taper: np.ndarray
+
+
+@dataclass(frozen=True)
+class SeparatedResponses:
+    """The linear impulse response and the harmonic ones.
+
+    Attributes
+    ----------
+    peak_lag : int
+        Lag of the linear response's largest sample.
+    linear : IRWindow
+    harmonics : tuple of IRWindow
+        Orders 2, 3, … in ascending order.
+    """
+
+    peak_lag: int
+    linear: IRWindow
+    harmonics: tuple[IRWindow, ...]
+
+
+def _next_fast(n: int) -> int:
+    from scipy.fft import next_fast_len
+
+    return int(next_fast_len(int(n), real=True))
+
+
+def deconvolve(
+    recording: np.ndarray,
+    stimulus: np.ndarray,
+    *,
+    sample_rate_hz: int,
+    band_hz: tuple[float, float],
+) -> Deconvolution:
+    """Deconvolve a recorded sweep by the stimulus sweep (regularised spectral division).
+
+    Parameters
+    ----------
+    recording : numpy.ndarray
+        1-D, on the stimulus's clock and sample rate.
+    stimulus : numpy.ndarray
+        1-D, the sweep (fades included, markers excluded).
+    sample_rate_hz : int
+    band_hz : (float, float)
+        The sweep's band; outside it ε rises to the in-band median stimulus power, over
+        one octave below it and 1/12 octave above it.
+
+    Returns
+    -------
+    Deconvolution
+
+    Raises
+    ------
+    MeasurementError
+        The stimulus has no energy in ``band_hz``.
+    """
+    from scipy import fft as sfft
+
+    fs = int(sample_rate_hz)
+    y = np.asarray(recording, dtype=np.float64)
+    x = np.asarray(stimulus, dtype=np.float64)
+    n = _next_fast(y.size + x.size)
+    X = sfft.rfft(x, n)
+    Y = sfft.rfft(y, n)
+    px = X.real**2 + X.imag**2
+    f = np.arange(px.size) * fs / n
+    lo, hi = float(band_hz[0]), float(band_hz[1])
+    inband = (f >= lo) & (f <= hi)
+    if not np.any(inband) or float(np.median(px[inband])) <= 0.0:
+        raise MeasurementError("The stimulus sweep has no energy in its own band; it cannot be deconvolved.")
+    ref = float(np.median(px[inband]))
+    # Distance outside the band in octaves, scaled so ε reaches the in-band level one
+    # octave below f1 (a gentle low edge keeps the band-limited impulse short there) and
+    # 1/12 octave above f2 (where harmonics and out-of-band noise must not be amplified).
+    with np.errstate(divide="ignore"):
+        lf = np.log2(np.maximum(f, 1e-9))
+    ramp = np.clip(np.maximum((np.log2(lo) - lf) / 1.0, (lf - np.log2(hi)) * 12.0), 0.0, 1.0)
+    eps_in = ref * 10.0 ** (IN_BAND_REGULARISATION_DB / 10.0)
+    eps = eps_in * (ref / eps_in) ** ramp
+    h = sfft.irfft(Y * np.conj(X) / (px + eps), n)
+    h.setflags(write=False)
+    px.setflags(write=False)
+    return Deconvolution(impulse_response=h, sample_rate_hz=fs, n_fft=n, stimulus_power=px, recording_length=int(y.size))
+
+
+def _taper(n_pre: int, n_post: int) -> np.ndarray:
+    """Flat window with half-Hann edges: rises over the first half of the pre-part and
+    falls over the last fifth of the post-part."""
+    w = np.ones(n_pre + n_post)
+    r = max(1, n_pre // 2)
+    if n_pre > 0:
+        w[:r] = 0.5 - 0.5 * np.cos(np.pi * (np.arange(r) + 0.5) / r)
+    q = max(1, n_post // 5)
+    w[n_pre + n_post - q:] = (0.5 - 0.5 * np.cos(np.pi * (np.arange(q) + 0.5) / q))[::-1]
+    return w
+
+
+def _cut(h: np.ndarray, order: int, origin: int, n_pre: int, n_post: int) -> IRWindow:
+    lags = np.arange(origin - n_pre, origin + n_post)
+    taper = _taper(n_pre, n_post)
+    seg = h[np.mod(lags, h.size)] * taper
+    seg.setflags(write=False)
+    taper.setflags(write=False)
+    return IRWindow(order=order, origin_lag=int(origin), start_lag=int(origin - n_pre), samples=seg, taper=taper)
+
+
+def separate_harmonics(
+    deconvolution: Deconvolution,
+    *,
+    rate_constant_s: float,
+    peak_search_lags: tuple[int, int],
+    orders: tuple[int, ...] = (2, 3, 4, 5),
+    post_s: float = 0.4,
+) -> SeparatedResponses:
+    """Cut the linear and harmonic impulse responses out of a deconvolved sweep.
+
+    The linear response's peak is searched in ``peak_search_lags``.  The k-th harmonic's
+    response starts L·ln k before it (Farina 2000).  The boundary between orders k and
+    k−1 lies a quarter of the way from the k−1 response back to the k response, so each
+    window holds the quarter before its response and three quarters after, never more
+    than ``post_s`` after nor 0.1 s before.
+
+    Raises
+    ------
+    MeasurementError
+        The search range holds no response (all zero).
+    """
+    h = deconvolution.impulse_response
+    fs = deconvolution.sample_rate_hz
+    lc = float(rate_constant_s)
+    lo, hi = int(peak_search_lags[0]), int(peak_search_lags[1])
+    lags = np.arange(lo, hi + 1)
+    region = np.abs(h[np.mod(lags, h.size)])
+    if region.size == 0 or float(region.max()) <= 0.0:
+        raise MeasurementError("The deconvolved recording holds no impulse response; the recording does not contain the stimulus.")
+    peak = int(lags[int(np.argmax(region))])
+    n_post = max(16, int(round(post_s * fs)))
+    n_pre = max(8, int(round(min(0.25 * lc * np.log(2.0), MAX_PRE_S) * fs)))
+    linear = _cut(h, 1, peak, n_pre, n_post)
+    harmonics = []
+    for k in sorted(orders):
+        centre = peak - int(round(lc * np.log(k) * fs))
+        a = max(4, int(round(min(0.25 * lc * np.log((k + 1) / k), MAX_PRE_S) * fs)))
+        b = max(8, int(round(min(0.75 * lc * np.log(k / (k - 1)), post_s) * fs)))
+        harmonics.append(_cut(h, k, centre, a, b))
+    return SeparatedResponses(peak_lag=peak, linear=linear, harmonics=tuple(harmonics))
+
+
+def window_response(window: IRWindow, frequencies_hz: np.ndarray, sample_rate_hz: int) -> np.ndarray:
+    """Complex frequency response of a windowed impulse response at ``frequencies_hz``,
+    with the window's ``origin_lag`` as time zero.
+
+    The window is zero-padded to at least 8× its length (a power of two) and the FFT
+    interpolated linearly; the error is far below the measurement's own.
+    """
+    n_pre = window.origin_lag - window.start_lag
+    seg = window.samples
+    nfft = int(2 ** np.ceil(np.log2(max(8 * seg.size, 1 << 14))))
+    buf = np.zeros(nfft)
+    buf[: seg.size - n_pre] = seg[n_pre:]
+    if n_pre > 0:
+        buf[nfft - n_pre:] = seg[:n_pre]
+    spec = np.fft.rfft(buf)
+    grid = np.arange(spec.size) * sample_rate_hz / nfft
+    f = np.asarray(frequencies_hz, dtype=np.float64)
+    return np.interp(f, grid, spec.real) + 1j * np.interp(f, grid, spec.imag)
+
+
+def window_group_delay_s(window: IRWindow, frequencies_hz: np.ndarray, sample_rate_hz: int) -> np.ndarray:
+    """Group delay (s) of a windowed impulse response, relative to its ``origin_lag``.
+
+    τ(f) = Re{DFT[n·h] / DFT[h]} / fs, which needs no phase unwrapping (the same
+    formula as ``scipy.signal.group_delay``).
+    """
+    n_pre = window.origin_lag - window.start_lag
+    t = np.arange(window.samples.size) - n_pre
+    ramped = IRWindow(window.order, window.origin_lag, window.start_lag, window.samples * t, window.taper)
+    h = window_response(window, frequencies_hz, sample_rate_hz)
+    nh = window_response(ramped, frequencies_hz, sample_rate_hz)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.real(nh / h) / sample_rate_hz
+
+
+def deconvolved_noise_power(
+    deconvolution: Deconvolution,
+    window: IRWindow,
+    noise: np.ndarray,
+    frequencies_hz: np.ndarray,
+) -> np.ndarray:
+    """Expected |spectrum|² of recording noise after deconvolution and windowing.
+
+    With the noise's two-sided power spectral density per sample S(f) (Welch estimate
+    from a quiet stretch of the recording), the deconvolved noise near frequency f has
+    density S(f)/|X(f)|² per sample (1/|X|² averaged over the window's resolution
+    bandwidth): the part of the inverse at f meets every noise sample once, so at that
+    frequency the noise fills len(y) lags.  A window w collects Σw² times that.
+    Divide a response's |H(f)|² by this to get its signal-to-noise ratio.
+    """
+    from scipy.signal import welch
+
+    fs = deconvolution.sample_rate_hz
+    nper = int(min(noise.size, 2 ** np.ceil(np.log2(0.05 * fs))))
+    f_w, p1 = welch(np.asarray(noise, dtype=np.float64), fs=fs, nperseg=nper)
+    s_two_sided = p1 * fs / 2.0  # one-sided density (units²/Hz) → two-sided per-sample
+    f = np.asarray(frequencies_hz, dtype=np.float64)
+    s = np.interp(f, f_w, s_two_sided)
+    # Mean of 1/|X|² over the window's resolution bandwidth (N / window length bins).
+    px = deconvolution.stimulus_power
+    with np.errstate(divide="ignore"):
+        inv = np.where(px > 0.0, 1.0 / np.maximum(px, 1e-300), 0.0)
+    width = max(1, int(round(deconvolution.n_fft / window.taper.size)))
+    csum = np.concatenate(([0.0], np.cumsum(inv)))
+    centre = np.clip(np.round(f * deconvolution.n_fft / fs).astype(np.int64), 0, px.size - 1)
+    a = np.clip(centre - width // 2, 0, px.size)
+    b = np.clip(a + width, 0, px.size)
+    mean_inv = (csum[b] - csum[a]) / np.maximum(b - a, 1)
+    energy = float(np.sum(window.taper**2))
+    return energy * s * mean_inv
