@@ -446,44 +446,46 @@ class _HumWindows:
         self.nbins = nbins
         self.win = (0.5 - 0.5 * np.cos(2.0 * np.pi * np.arange(n) / n)).astype(np.float32)
         self.gain2 = gain2
-        self.buf = np.zeros(0, dtype=np.float32)
         self.hist = np.zeros((LEVEL_BIN_COUNT, nbins))
         self.counts = np.zeros(LEVEL_BIN_COUNT, dtype=np.int64)
 
-    def push(self, y: np.ndarray) -> None:
+    def spectra(self, y: np.ndarray):
+        """Level bins and power spectra of the windows lying wholly inside ``y``."""
         n, hop = self.n, self.hop
-        t = self.buf.size
-        buf = np.empty(t + y.size, dtype=np.float32)
-        buf[:t] = self.buf
-        buf[t:] = y
-        nw = (buf.size - n) // hop + 1 if buf.size >= n else 0
+        nw = (y.size - n) // hop + 1 if y.size >= n else 0
         if nw == 0:
-            self.buf = buf
-            return
+            return None
         frames = np.lib.stride_tricks.as_strided(
-            buf, shape=(nw, n), strides=(hop * buf.itemsize, buf.itemsize), writeable=False
+            y, shape=(nw, n), strides=(hop * y.itemsize, y.itemsize), writeable=False
         )
         ms = np.einsum("ij,ij->i", frames, frames).astype(np.float64) / n
         from scipy.fft import rfft
 
-        spec = rfft(frames * self.win, axis=1)[:, : self.nbins]
-        pw = spec.real.astype(np.float64) ** 2 + spec.imag.astype(np.float64) ** 2
-        bins = level_bins(ms)
-        for b in np.unique(bins):
-            sel = bins == b
-            self.hist[b] += pw[sel].sum(axis=0)
-            self.counts[b] += int(np.count_nonzero(sel))
-        self.buf = buf[nw * hop :].copy()
+        pw = np.abs(rfft(frames * self.win, axis=1)[:, : self.nbins]).astype(np.float64)
+        pw *= pw
+        return level_bins(ms), pw
 
-    def quiet_psd(self) -> tuple[Optional[np.ndarray], int]:
+    def add(self, y: np.ndarray, hist: np.ndarray, counts: np.ndarray) -> None:
+        got = self.spectra(y)
+        if got is None:
+            return
+        bins, pw = got
+        for b in np.unique(bins).tolist():
+            sel = bins == b
+            hist[b] += pw[sel].sum(axis=0)
+            counts[b] += int(np.count_nonzero(sel))
+
+    def quiet_psd(self, hist=None, counts=None) -> tuple[Optional[np.ndarray], int]:
         """Mean one-sided PSD of the quietest windows, corrected for the decimation filter."""
-        occupied = np.flatnonzero(self.counts[1:]) + 1  # bin 0 is digital silence: no information
+        hist = self.hist if hist is None else hist
+        counts = self.counts if counts is None else counts
+        occupied = np.flatnonzero(counts[1:]) + 1  # bin 0 is digital silence: no information
         if occupied.size == 0:
             return None, 0
         b_min = int(occupied[0])
         last = min(b_min + _QUIET_SPREAD_BINS, LEVEL_BIN_COUNT - 1)
-        used = int(self.counts[b_min : last + 1].sum())
-        mean_pw = self.hist[b_min : last + 1].sum(axis=0) / used
+        used = int(counts[b_min : last + 1].sum())
+        mean_pw = hist[b_min : last + 1].sum(axis=0) / used
         scale = 2.0 / (self.rate_hz * float(np.sum(self.win.astype(np.float64) ** 2)))
         psd = mean_pw * scale / np.maximum(self.gain2, 1e-12)
         return psd, used
@@ -548,13 +550,13 @@ class HumAccumulator:
 
     Method (common practice, trade notes 6.1): the signal is low-pass filtered and
     decimated to about 2 kHz (a linear-phase Kaiser-window FIR, beta = 7, 10 taps per
-    decimation phase, cut-off at the new Nyquist frequency; its state is carried across
-    blocks).  The low-rate signal is cut into Hann windows of two lengths -- at least 4 s
-    (about 0.24 Hz resolution, narrow lines stand out more under speech) and at least 2 s
-    (0.5 Hz, more likely to fit inside a pause) -- with 50 % overlap.  Each window's power
-    spectrum is added to a histogram keyed by the window's level (1 dB bins), so that at
-    the end the quietest windows -- those within 3 dB of the quietest window that is not
-    digital silence: pauses, where there are any -- are averaged.
+    decimation phase, cut-off at the new Nyquist frequency).  The low-rate signal is cut
+    into Hann windows of two lengths -- at least 4 s (about 0.24 Hz resolution: narrow
+    lines stand out more under speech) and half that (0.5 Hz: more likely to fit inside a
+    pause) -- with 50 % overlap.  Each window's power spectrum is added to a histogram
+    keyed by the window's level (1 dB bins), so that at the end the quietest windows --
+    those within 3 dB of the quietest window that is not digital silence: pauses, where
+    there are any -- are averaged.
 
     In each averaged spectrum (corrected for the decimation filter's gain) a comb
     ``k * f0``, ``k = 1 ... 8`` (up to about 500 Hz), is fitted for ``f0`` in
@@ -567,6 +569,12 @@ class HumAccumulator:
     from the present lines' interpolated peaks.  The comb and window length with the most
     present harmonics (then the largest weakest-line ratio) win.
 
+    Cost: the stream is processed in segments of four long windows (about 16 s); all of
+    the first 32 segments (about 9 min) are analysed, then every 2nd of the next 64, every
+    4th of the next 128, and so on (hum is steady, and the quietest stretches are what
+    count).  Windows do not straddle segments.  The partial last segment is analysed at
+    :meth:`result`.
+
     Hum under speech is found only when it is strong relative to the speech in the same
     bins; weak hum inside the speech band (e.g. 100/150 Hz ripple 50 dB below the speech)
     is found only if the recording has pauses of at least about 2 s.
@@ -576,6 +584,9 @@ class HumAccumulator:
     sample_rate_hz : float
         At least 4000 Hz.
     """
+
+    #: Segments analysed at full density before thinning starts.
+    FULL_DENSITY_SEGMENTS = 32
 
     def __init__(self, sample_rate_hz: float):
         fs = _check_rate(sample_rate_hz)
@@ -587,10 +598,10 @@ class HumAccumulator:
         from scipy.signal import firwin
 
         h = firwin(m * k, self.low_rate_hz / 2.0, window=("kaiser", 7.0), fs=fs)
-        # Polyphase matrix: output y[j] = sum_i (R @ G)[j + i, i], rows R of k samples.
-        self._g = np.ascontiguousarray(h[::-1].reshape(m, k).T.astype(np.float32))
+        # Polyphase branches: output y[j] = sum_i R[j + i] . g_i, with R the rows of k samples
+        # and g_i the i-th k-tap segment of the time-reversed filter.
+        self._g = [np.ascontiguousarray(seg) for seg in h[::-1].astype(np.float32).reshape(m, k)]
         self._m = m
-        self._carry = np.zeros(0, dtype=np.float32)
         self._paths = []
         for dur in _HUM_WINDOWS_S:
             n = 1 << math.ceil(math.log2(dur * self.low_rate_hz))
@@ -598,35 +609,120 @@ class HumAccumulator:
             nbins = int(0.3 * n) + 1
             gain2 = np.abs(np.fft.rfft(h, n=n * k)[:nbins]) ** 2
             self._paths.append(_HumWindows(self.low_rate_hz, n, nbins, gain2))
+        self._seg_out = 4 * self._paths[0].n  # low-rate samples per segment
+        self._seg_in = self._seg_out * k  # full-rate samples per segment
+        self._look = (m - 1) * k  # full-rate samples needed beyond a segment's end
+        self._buf = np.zeros(0, dtype=np.float32)  # samples kept for the next kept segment
+        self._buf_len = 0
+        self._p0 = 0  # global index of _buf[0]
+        self._received = 0
+        self._seg = 0
+
+    def _kept(self, s: int) -> bool:
+        stride = 1 << ((s // self.FULL_DENSITY_SEGMENTS + 1).bit_length() - 1)
+        return s % stride == 0
+
+    def _next_kept(self, s: int) -> int:
+        while not self._kept(s):
+            s += 1
+        return s
 
     @property
     def window_count(self) -> int:
-        """Complete short analysis windows seen so far (0: too short to look for hum)."""
-        return int(self._paths[-1].counts.sum())
+        """Short analysis windows seen so far, including the partial last segment."""
+        tail = self._tail_y()
+        extra = 0
+        if tail is not None:
+            path = self._paths[-1]
+            extra = (tail.size - path.n) // path.hop + 1 if tail.size >= path.n else 0
+        return int(self._paths[-1].counts.sum()) + extra
+
+    def _decimate(self, seg: np.ndarray, n_out: int) -> np.ndarray:
+        k, m = self.decimation, self._m
+        r = seg[: (n_out + m - 1) * k].reshape(n_out + m - 1, k)
+        y = np.empty(n_out, dtype=np.float32)
+        # One matrix-vector product per polyphase branch, over cache-sized runs of rows
+        # (far cheaper here than one tall-skinny matrix product, which multithreaded
+        # BLAS handles badly).
+        step = max(1, 65536 // k)
+        for a in range(0, n_out, step):
+            b = min(a + step, n_out)
+            acc = r[a:b] @ self._g[0]
+            for i in range(1, m):
+                acc += r[a + i : b + i] @ self._g[i]
+            y[a:b] = acc
+        return y
+
+    def _keep_samples(self, x: np.ndarray, start: int) -> None:
+        """Keep what the next kept segment needs of the buffer plus ``x`` (global ``start``)."""
+        end = start + x.size
+        nk = self._next_kept(self._seg) * self._seg_in
+        if nk >= end:
+            self._buf_len = 0
+            self._p0 = end
+            return
+        if nk >= start or self._buf_len == 0:
+            self._buf_len = 0
+            self._p0 = max(nk, start)
+        else:
+            drop = nk - self._p0
+            if drop > 0:
+                rest = self._buf_len - drop
+                self._buf[:rest] = self._buf[drop : self._buf_len]
+                self._buf_len = rest
+                self._p0 = nk
+        add = x[max(0, self._p0 + self._buf_len - start) :]
+        need = self._buf_len + add.size
+        if need > self._buf.size:
+            grown = np.empty(max(need, 2 * self._buf.size), dtype=np.float32)
+            grown[: self._buf_len] = self._buf[: self._buf_len]
+            self._buf = grown
+        self._buf[self._buf_len : need] = add
+        self._buf_len = need
 
     def update(self, block) -> None:
         """Add the next block of samples (1-D, any length >= 1)."""
         x = _check_block(block)
-        k, m = self.decimation, self._m
-        c = self._carry.size
-        buf = np.empty(c + x.size, dtype=np.float32)
-        buf[:c] = self._carry
-        buf[c:] = x
-        rows = buf.size // k
-        n_out = rows - m + 1
+        start = self._received
+        end = start + x.size
+        self._received = end
+        while True:
+            s = self._seg
+            if not self._kept(s):
+                if end >= (s + 1) * self._seg_in:
+                    self._seg += 1
+                    continue
+                break
+            lo = s * self._seg_in
+            hi = lo + self._seg_in + self._look
+            if end < hi:
+                break
+            if lo >= start:
+                seg = np.asarray(x[lo - start : hi - start], dtype=np.float32)
+            else:
+                seg = np.empty(hi - lo, dtype=np.float32)
+                held = start - lo
+                seg[:held] = self._buf[lo - self._p0 : lo - self._p0 + held]
+                seg[held:] = x[: hi - start]
+            y = self._decimate(seg, self._seg_out)
+            for path in self._paths:
+                path.add(y, path.hist, path.counts)
+            self._seg += 1
+        self._keep_samples(x, start)
+
+    def _tail_y(self) -> Optional[np.ndarray]:
+        """Decimated samples of the partial segment not yet analysed (if it is a kept one)."""
+        if not self._kept(self._seg) or self._buf_len == 0 or self._p0 != self._seg * self._seg_in:
+            return None
+        n_out = (self._buf_len - self._look) // self.decimation
         if n_out <= 0:
-            self._carry = buf
-            return
-        p = buf[: rows * k].reshape(rows, k) @ self._g
-        y = p[0:n_out, 0].copy()
-        for i in range(1, m):
-            y += p[i : i + n_out, i]
-        self._carry = buf[n_out * k :].copy()
-        for path in self._paths:
-            path.push(y)
+            return None
+        return self._decimate(self._buf[: self._buf_len], n_out)
 
     def result(self, *, reference_level_dbfs: Optional[float] = None) -> Optional[HumResult]:
         """The hum found so far, or ``None`` if none was found (or no window is complete).
+
+        Does not change the accumulator.
 
         Parameters
         ----------
@@ -634,9 +730,14 @@ class HumAccumulator:
             Speech level to refer the hum to (normally the P.56 active speech level);
             without it ``level_db_re_speech`` is ``None``.
         """
+        tail = self._tail_y()
         best = None
         for path in self._paths:
-            psd, used = path.quiet_psd()
+            hist, counts = path.hist, path.counts
+            if tail is not None:
+                hist, counts = hist.copy(), counts.copy()
+                path.add(tail, hist, counts)
+            psd, used = path.quiet_psd(hist, counts)
             if psd is None:
                 continue
             for mains in MAINS_HZ:

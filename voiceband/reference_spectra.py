@@ -16,6 +16,7 @@ Tables
     ANSI S3.5-1997, Table 3: standard speech spectrum level, normal vocal effort
     (dB SPL per Hz at 1 m), 160 Hz - 8 kHz (18 bands), converted to band levels by adding
     the table's own bandwidth adjustment (column "Delta", = 10 log10 of the nominal band width).
+    The table itself lives once, in :mod:`voiceband.intelligibility.tables`.
 """
 
 from __future__ import annotations
@@ -27,9 +28,6 @@ from .errors import MeasurementError
 __all__ = [
     "BYRNE_1994_BANDS_HZ",
     "BYRNE_1994_LTASS_BAND_DB",
-    "ANSI_S35_BANDS_HZ",
-    "ANSI_S35_NORMAL_SPECTRUM_DB_PER_HZ",
-    "ANSI_S35_BANDWIDTH_ADJUSTMENT_DB",
     "REFERENCE_SPECTRA",
     "reference_band_levels_db",
 ]
@@ -51,21 +49,6 @@ BYRNE_1994_BANDS_HZ = _frozen(
 BYRNE_1994_LTASS_BAND_DB = _frozen(
     [38.6, 43.5, 54.4, 57.7, 56.8, 60.2, 60.3, 59.0, 62.1, 62.1, 60.5, 56.8, 53.7,
      53.0, 52.0, 48.7, 48.1, 46.8, 45.6, 44.5, 44.3, 43.7, 43.4, 41.3, 40.7]
-)
-
-#: Nominal one-third-octave centres of ANSI S3.5-1997 Table 3 (Hz).
-ANSI_S35_BANDS_HZ = _frozen(
-    [160, 200, 250, 315, 400, 500, 630, 800, 1000, 1250, 1600, 2000, 2500, 3150, 4000, 5000, 6300, 8000]
-)
-#: ANSI S3.5-1997 Table 3, standard speech spectrum level, normal effort (dB SPL/Hz at 1 m).
-ANSI_S35_NORMAL_SPECTRUM_DB_PER_HZ = _frozen(
-    [32.41, 34.48, 34.75, 33.98, 34.59, 34.27, 32.06, 28.30, 25.01, 23.00, 20.15, 17.32,
-     13.18, 11.55, 9.33, 5.31, 2.59, 1.13]
-)
-#: ANSI S3.5-1997 Table 3, bandwidth adjustment Delta (dB): band level = spectrum level + Delta.
-ANSI_S35_BANDWIDTH_ADJUSTMENT_DB = _frozen(
-    [15.65, 16.65, 17.65, 18.65, 19.65, 20.65, 21.65, 22.65, 23.65, 24.65, 25.65, 26.65,
-     27.65, 28.65, 29.65, 30.65, 31.65, 32.65]
 )
 
 #: Names accepted by :func:`reference_band_levels_db`.
@@ -95,6 +78,9 @@ def reference_band_levels_db(name: str = "byrne1994") -> tuple[np.ndarray, np.nd
     if name == "byrne1994":
         return BYRNE_1994_BANDS_HZ, BYRNE_1994_LTASS_BAND_DB
     if name == "ansi_s3.5":
-        band = _frozen(ANSI_S35_NORMAL_SPECTRUM_DB_PER_HZ + ANSI_S35_BANDWIDTH_ADJUSTMENT_DB)
-        return ANSI_S35_BANDS_HZ, band
+        from .intelligibility.tables import band_procedure
+
+        table = band_procedure("one-third-octave")
+        band = _frozen(table.speech_spectrum_db["normal"] + table.bandwidth_adjustment_db)
+        return table.centres_hz, band
     raise MeasurementError(f"reference spectrum must be one of {', '.join(REFERENCE_SPECTRA)}; got {name!r}")
