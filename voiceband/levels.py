@@ -148,7 +148,7 @@ _ENVELOPE_FLOOR = 1e-20
 # Envelope values are raised to this before binning (half a step below the ladder).
 _BELOW_LADDER = np.float32(2.0 ** ((_LADDER_MIN - 0.5) / _LADDER_STEPS_PER_OCTAVE))
 # Envelope sample rate aimed at by the grouping of |x| (Hz).
-_ENVELOPE_RATE_HZ = 1500.0
+_ENVELOPE_RATE_HZ = 750.0
 # Samples per inner chunk of a block (256 KiB of float64: stays in L2 cache).
 _CHUNK = 1 << 15
 
