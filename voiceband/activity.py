@@ -58,6 +58,7 @@ __all__ = [
     "ActivityAccumulator",
     "measure_activity",
     "snr_db",
+    "MAINS_HZ",
     "HumResult",
     "HumAccumulator",
     "detect_hum",

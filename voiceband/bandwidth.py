@@ -249,6 +249,10 @@ def _interp_segment(x: np.ndarray, y: np.ndarray, i: int, target: float) -> floa
     return float(x[i] + t * (x[i + 1] - x[i]))
 
 
+#: Depth below the response maximum at which the estimated response is floored (dB).
+_FLOOR_DB = 30.0
+
+
 def _exact_centre_hz(nominal_hz: np.ndarray) -> np.ndarray:
     # IEC 61260-1:2014, base-10 one-third-octave bands: exact mid-band 1000 * 10^(x/10) Hz.
     x = np.round(10.0 * np.log10(nominal_hz / 1000.0))
@@ -274,7 +278,8 @@ def passband_edges(
     2. Estimated response per one-third-octave band = that level minus the reference
        long-term speech spectrum level (:func:`voiceband.reference_spectra.reference_band_levels_db`),
        over the bands both cover.
-    3. Response floored at 60 dB below its maximum and smoothed with a (1, 2, 1)/4 kernel
+    3. Response floored at 30 dB below its maximum (so a band with no speech left does not
+       drag its neighbours far below the criterion) and smoothed with a (1, 2, 1)/4 kernel
        across adjacent bands.
     4. Passband level = median of the smoothed response over the bands within 6 dB of its
        maximum.
@@ -356,7 +361,7 @@ def passband_edges(
             None, None, None, drop_db, reference, tuple(common_f.tolist()), (), None, None
         )
     top = np.max(resp[finite])
-    resp = np.where(finite, np.maximum(resp, top - 60.0), top - 60.0)
+    resp = np.where(finite, np.maximum(resp, top - _FLOOR_DB), top - _FLOOR_DB)
     padded = np.concatenate(([resp[0]], resp, [resp[-1]]))
     smooth = 0.25 * padded[:-2] + 0.5 * padded[1:-1] + 0.25 * padded[2:]
     top = float(np.max(smooth))
