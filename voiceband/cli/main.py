@@ -24,6 +24,7 @@ app = typer.Typer(
 # (command name, module, function)
 _COMMANDS = [
     ("analyze", "voiceband.cli.analyze", "analyze"),
+    ("response", "voiceband.cli.response", "response"),
 ]
 
 for _name, _module, _func in _COMMANDS:

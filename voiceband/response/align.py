@@ -10,9 +10,10 @@ The model is
 (seconds on the recording's nominal clock; ``r`` the *clock ratio*).  It is estimated in
 two steps:
 
-1. a coarse delay from the cross-correlation of log band-energy envelopes, which is
-   insensitive to the chain's response and to an SSB frequency offset;
-2. fine positions of *anchors* (the sweep's marker chirps, or pieces of the stimulus)
+1. a coarse delay from the cross-correlation of log band-energy envelopes (sweeps) or
+   of energy envelopes (steady tones), insensitive to the chain's response and to an SSB
+   frequency offset;
+2. fine positions of *anchors* (the sweep's marker chirps)
    from the envelope of their cross-correlation with the recording; a straight-line fit
    of recorded against stimulus positions gives ``d`` and ``r``.
 
@@ -42,8 +43,10 @@ __all__ = [
     "resample_to_rate",
     "correct_clock",
     "envelope_match",
+    "energy_match",
     "locate",
     "fit_clock",
+    "align_to_anchors",
     "MAX_CLOCK_ERROR",
 ]
 
@@ -167,6 +170,38 @@ def envelope_match(stimulus: np.ndarray, recording: np.ndarray, sample_rate_hz: 
     return Match(lag=float(m * hop), coefficient=float(max(rho[m], 0.0)))
 
 
+def energy_match(stimulus: np.ndarray, recording: np.ndarray, sample_rate_hz: int) -> Match:
+    """Coarse position of a steady stimulus (tones) in the recording from energy envelopes.
+
+    Frame energies (5 ms hops) of both are cross-correlated; for a stimulus whose
+    envelope is flat this picks the position that captures the most recorded energy,
+    i.e. full overlap with the recorded burst.  Each stimulus burst contributes most
+    when it overlaps its own recorded burst fully, so stepped tones align as well.
+    Resolution: one hop.  ``coefficient`` is the normalised correlation of the envelopes.
+
+    Raises
+    ------
+    MeasurementError
+        The recording is shorter than the stimulus.
+    """
+    fs = int(sample_rate_hz)
+    hop = max(1, int(round(0.005 * fs)))
+    ns, nr = stimulus.size // hop, recording.size // hop
+    if ns == 0 or nr < ns:
+        raise MeasurementError(
+            f"The recording ({recording.size / fs:.2f} s) is shorter than the stimulus "
+            f"({stimulus.size / fs:.2f} s), so it cannot contain all of it."
+        )
+    es = np.sum(np.asarray(stimulus[: ns * hop], dtype=np.float64).reshape(ns, hop) ** 2, axis=1)
+    er = np.sum(np.asarray(recording[: nr * hop], dtype=np.float64).reshape(nr, hop) ** 2, axis=1)
+    n = int(2 ** np.ceil(np.log2(ns + nr)))
+    c = np.fft.irfft(np.fft.rfft(er, n) * np.conj(np.fft.rfft(es, n)), n)[: nr - ns + 1]
+    m = int(np.argmax(c))
+    win = er[m:m + ns]
+    den = float(np.sqrt(np.sum(es * es) * np.sum(win * win)))
+    return Match(lag=float(m * hop), coefficient=float(c[m] / den) if den > 0.0 else 0.0)
+
+
 def locate(reference: np.ndarray, recording: np.ndarray, *, expected_lag: float, search_samples: int) -> Match:
     """Fine position of ``reference`` in ``recording`` near ``expected_lag``.
 
@@ -262,9 +297,3 @@ def align_to_anchors(
             f"±{100.0 * MAX_CLOCK_ERROR:g} %; check that both files state their true sample rates."
         )
     return Alignment(delay_samples=d, clock_ratio=r, coefficient=coarse.coefficient, anchors_used=int(s.size))
-
-
-def stimulus_pieces(segment: Segment, pieces: int = 4) -> tuple[Segment, ...]:
-    """Split a segment into ``pieces`` equal anchors (when a stimulus has no markers)."""
-    edges = np.linspace(segment.start, segment.stop, pieces + 1).round().astype(int)
-    return tuple(Segment(int(a), int(b)) for a, b in zip(edges[:-1], edges[1:]))

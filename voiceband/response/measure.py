@@ -60,6 +60,7 @@ _MIN_PEAK_TO_RMS = 10.0
 #: Quiet stretches used for the noise floor: at least this long (s).
 _MIN_QUIET_S = 0.1
 _IR_TAIL_S = 0.1
+_MIN_PHASE_SNR_DB = 10.0
 _GUARD_S = 0.02
 
 
@@ -90,10 +91,11 @@ class ResponseResult:
     magnitude_db : numpy.ndarray
         Relative to ``passband_level_db`` (NaN where the signal-to-noise ratio is below 0 dB).
     phase_deg : numpy.ndarray
-        Wrapped to (−180, 180], time zero at ``delay_s``; NaN where not measurable (always
-        after a carrier-offset correction: the carrier phase is unknown).
+        Wrapped to (−180, 180], time zero at ``delay_s``; NaN where not measurable: SNR
+        below 10 dB, and always after a carrier-offset correction (the carrier phase is
+        unknown).
     group_delay_s : numpy.ndarray
-        Relative to ``delay_s``; NaN where not measurable.
+        Relative to ``delay_s``; NaN where the SNR is below 10 dB.
     snr_db : numpy.ndarray
         Signal-to-noise ratio per frequency; NaN when the recording has no quiet stretch.
     passband_level_db : float
@@ -231,7 +233,12 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     band = (sw.start_hz * 2.0 ** (1.0 / 6.0), top)
     if band[1] <= 1.2 * band[0]:
         raise MeasurementError("The sweep's band lies above what the recording's sample rate can hold.")
-    anchors = ana.anchors if ana.anchors else _align.stimulus_pieces(seg)
+    anchors = ana.anchors
+    if len(anchors) < 2:
+        findings.append(
+            "The sweep has no start and stop markers, so the clock ratio was not measured (1.0 assumed); "
+            "clock drift would show in the phase and group delay."
+        )
     margin = int(0.02 * fs)
     xs = x[seg.start - margin if seg.start >= margin else 0: seg.stop + margin]
     xs_start = max(seg.start - margin, 0)
@@ -299,8 +306,11 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     phase = np.degrees(np.angle(h1))
     if corrected:
         phase = np.full(freqs.size, np.nan)
-    phase = np.where(np.isfinite(mag), phase, np.nan)
-    gd = np.where(np.isfinite(mag), window_group_delay_s(sep.linear, freqs, fs), np.nan)
+    # Phase and group delay only where the SNR is at least 10 dB (phase error below
+    # about 18°) or unknown.
+    keep = np.isfinite(mag) & ~(snr < _MIN_PHASE_SNR_DB)
+    phase = np.where(keep, phase, np.nan)
+    gd = np.where(keep, window_group_delay_s(sep.linear, freqs, fs), np.nan)
 
     # Harmonic distortion per input frequency (Farina 2000: order k at output frequency k·f).
     # A point is reported where the harmonic stands 6 dB above its expected noise power;
@@ -397,7 +407,8 @@ def _measure_tones(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     assert tones is not None
     span = ana.span
     findings: list[str] = []
-    coarse = _find_stimulus(x, y1, ana, fs)
+    found = _align.energy_match(x[span.start:span.stop], y1, fs)
+    coarse = _align.Match(lag=found.lag - span.start, coefficient=found.coefficient)
     margin = int(0.1 * fs)
     excerpt = _take(y1, int(round(coarse.lag)) + span.start - margin, span.length + 2 * margin)
     off = tone_offset(excerpt, fs, tones, max_offset_hz=max_offset_hz)
@@ -413,10 +424,10 @@ def _measure_tones(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     resolution = max(TONE_OFFSET_RESOLUTION_HZ, 4.0 * off.stderr_hz)
     corrected = abs(off.frequency_offset_hz) >= resolution
     z = _align.correct_clock(y1, ratio)
-    m = _align.envelope_match(x[span.start:span.stop], z, fs)
+    m = _align.energy_match(x[span.start:span.stop], z, fs)
     origin = m.lag - span.start
     if not corrected:
-        fine = _align.locate(x[span.start:span.stop], z, expected_lag=m.lag, search_samples=int(0.03 * fs))
+        fine = _align.locate(x[span.start:span.stop], z, expected_lag=m.lag, search_samples=int(0.01 * fs))
         if fine.coefficient > 0.0:
             origin = fine.lag - span.start
     origin_i = int(round(origin))
@@ -445,8 +456,9 @@ def _measure_tones(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
         else:
             gd = np.full(freqs.size, np.nan)
         spread = None
-    phase = np.where(np.isfinite(mag), phase, np.nan)
-    gd = np.where(np.isfinite(mag), gd, np.nan)
+    keep = np.isfinite(mag) & ~(trk.snr_db < _MIN_PHASE_SNR_DB)
+    phase = np.where(keep, phase, np.nan)
+    gd = np.where(keep, gd, np.nan)
     band = (float(freqs.min()), float(freqs.max()))
     if freqs.size == 1:
         harmonics = _single_tone_harmonics(zs, fs, float(freqs[0]), off.frequency_offset_hz if corrected else 0.0, 0.45 * min(fs, fs_rec))
