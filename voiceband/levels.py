@@ -28,9 +28,10 @@ True peak
     context is carried across blocks).  A sine's inter-sample peak exceeds its
     highest sample by at most 3.01 dB (at fs/4), so only contrived sequences with
     larger inter-sample overshoot, away from a local maximum of |x|, can be
-    missed.  Samples outside the recording are taken as zero; only intervals
-    between two samples of the recording are searched.  The reported true peak
-    is never below the sample peak.
+    missed.  Only interpolator windows lying wholly inside the recording are
+    used (zeros beyond an abrupt edge would add a spurious overshoot), so the
+    first 5 and last 6 sample intervals contribute their samples only.  The
+    reported true peak is never below the sample peak.
 Active speech level
     ITU-T P.56 method B: envelope from two cascaded one-pole smoothers of |x|
     (time constant T = 0.03 s), hangover H = 0.2 s, margin M = 15.9 dB.  For
@@ -424,10 +425,13 @@ class LevelsAccumulator:
                     continue
             y = np.abs(win @ _TP_MATRIX)
             g = p + start  # global index of each candidate
-            # Only intervals between two samples of the recording count.
-            y[g == 0, :_OVERSAMPLING] = 0.0
+            # Only windows lying wholly inside the recording count: zeros
+            # beyond its edges would make a step and a spurious overshoot.
+            y[g < _CTX_BEFORE, :_OVERSAMPLING] = 0.0
+            y[g < _CTX_BEFORE - 1, _OVERSAMPLING:] = 0.0
             if n_total is not None:
-                y[g == n_total - 1, _OVERSAMPLING:] = 0.0
+                y[g > n_total - _CTX_AFTER, :_OVERSAMPLING] = 0.0
+                y[g > n_total - 1 - _CTX_AFTER, _OVERSAMPLING:] = 0.0
             flat = int(np.argmax(y))
             r, col = divmod(flat, y.shape[1])
             v = float(y[r, col])
