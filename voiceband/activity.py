@@ -286,6 +286,8 @@ class _Framer:
         n_new = (buf.size - nfft) // hop + 1 if buf.size >= nfft else 0
         first = self.frames_done
         if n_new == 0:
+            if not np.all(np.isfinite(buf[t:])):
+                raise SignalValueError("the samples contain NaN or infinite values")
             self._tail = buf
             return buf[:0].reshape(0, nfft), np.zeros(0), first
         chunks = buf[: (n_new + 1) * hop].reshape(n_new + 1, hop)
@@ -297,6 +299,9 @@ class _Framer:
             buf, shape=(n_new, nfft), strides=(hop * buf.itemsize, buf.itemsize), writeable=False
         )
         self._tail = buf[n_new * hop :].copy()
+        # Samples not yet in a complete frame are checked here (the rest via their sums).
+        if not np.all(np.isfinite(self._tail[(n_new + 1) * hop - n_new * hop :])):
+            raise SignalValueError("the samples contain NaN or infinite values")
         self.frames_done += n_new
         return frames, ms, first
 
@@ -652,6 +657,8 @@ class HumAccumulator:
             for i in range(1, m):
                 acc += r[a + i : b + i] @ self._g[i]
             y[a:b] = acc
+        if not np.all(np.isfinite(y)):
+            raise SignalValueError("the samples contain NaN or infinite values")
         return y
 
     def _keep_samples(self, x: np.ndarray, start: int) -> None:
