@@ -89,7 +89,7 @@ def findings_for(
         add("dc_offset", "warning",
             f"DC offset is {100 * levels.dc_offset:+.2f} % of full scale; a coupling capacitor or high-pass removes it and restores headroom.")
 
-    if noise.floor_dbfs is None:
+    if noise.floor_dbfs is None and not any(f.code == "pauses_digital_silence" for f in out):
         add("no_pauses", "info", "No pauses between words were found, so the noise floor, SNR and hum are not measurable.")
     elif noise.snr_db is not None:
         if noise.snr_db < T["snr_problem_db"]:
