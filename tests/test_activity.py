@@ -152,6 +152,8 @@ def test_activity_bad_input():
         measure_activity(np.zeros((100, 2)), 8000)
     with pytest.raises(SignalValueError, match="NaN or infinite"):
         measure_activity(np.r_[np.zeros(5000), np.inf], 8000)
+    with pytest.raises(SignalValueError, match="NaN or infinite"):
+        detect_hum(np.r_[np.zeros(80000), np.nan, np.zeros(1000)], 8000)
 
 
 # ---------------------------------------------------------------------------------------
