@@ -194,7 +194,7 @@ def test_result_does_not_change_the_accumulator(rng):
 
 
 def test_thinned_long_recording_weights_each_stretch_by_duration():
-    # After 4096 frames the transformed frames thin out (stride 2, 4, ...); each is weighted
+    # After 2048 frames the transformed frames thin out (stride 2, 4, ...); each is weighted
     # by its stride, so two equal-length halves count equally (analytic: a 500 Hz sine for
     # 6 min then a 1600 Hz sine of the same amplitude for 6 min -> equal band levels, each
     # 3.01 dB below the sine's own level since each is present half of the time).
@@ -211,9 +211,10 @@ def test_thinned_long_recording_weights_each_stretch_by_duration():
     l500, l1600 = sp.speech_band_db[bands.index(500.0)], sp.speech_band_db[bands.index(1600.0)]
     assert l500 == pytest.approx(l1600, abs=0.05)
     assert l500 == pytest.approx(-3.0103 - 3.0103, abs=0.05)
-    # 11249 frames of 1024 with hop 512: the first 4096 all transformed, then every 2nd.
+    # 11249 frames of 1024 with hop 512: the first 2048 all transformed, every 2nd of the
+    # next 4096, every 4th of the remaining 5105 (indices 6144 ... 11248).
     n_frames = (2 * half - 1024) // 512 + 1
-    assert sp.speech_frames_transformed == 4096 + (n_frames - 4096 + 1) // 2
+    assert sp.speech_frames_transformed == 2048 + 2048 + (n_frames - 6144 + 3) // 4
 
 
 def test_digital_silence_and_short_input():

@@ -276,6 +276,7 @@ class _Framer:
         self.hop = self.nfft // 2
         self._tail = np.zeros(0, dtype=np.float32)
         self.frames_done = 0
+        self.last_block = self._tail
 
     def push(self, x: np.ndarray):
         hop, nfft = self.hop, self.nfft
@@ -283,6 +284,7 @@ class _Framer:
         buf = np.empty(t + x.size, dtype=np.float32)
         buf[:t] = self._tail
         buf[t:] = x
+        self.last_block = buf[t:]
         n_new = (buf.size - nfft) // hop + 1 if buf.size >= nfft else 0
         first = self.frames_done
         if n_new == 0:
@@ -330,10 +332,12 @@ class ActivityAccumulator:
         self.mean_square_sums = np.zeros(LEVEL_BIN_COUNT)
 
     def update_frames(self, block):
-        """Add a block; return ``(frames, level_bin_per_frame, first_frame_index)`` of the new frames.
+        """Add a block; return its new frames, their level bins, the first frame's index, and
+        the block as float32.
 
-        ``frames`` is a read-only float32 view valid until the next call.  Used by
-        :class:`voiceband.spectrum.SpectralAccumulator` to share the framing.
+        ``frames`` (read-only) and the float32 block are views valid until the next call.
+        Used by :class:`voiceband.spectrum.SpectralAccumulator` to share the framing and
+        the one conversion to float32.
         """
         x = _check_block(block)
         frames, ms, first = self._framer.push(x)
@@ -341,7 +345,7 @@ class ActivityAccumulator:
         if bins.size:
             self.counts += np.bincount(bins, minlength=LEVEL_BIN_COUNT)
             self.mean_square_sums += np.bincount(bins, weights=ms, minlength=LEVEL_BIN_COUNT)
-        return frames, bins, first
+        return frames, bins, first, self._framer.last_block
 
     def update(self, block) -> None:
         """Add the next block of samples (1-D, any length >= 1)."""
