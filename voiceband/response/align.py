@@ -261,7 +261,7 @@ def align_to_anchors(
 ) -> Alignment:
     """Delay and clock ratio from the fine positions of anchor segments of the stimulus.
 
-    Each anchor is searched within ±(30 ms + 1.2 % of its distance from the stimulus
+    Each anchor is searched within ±(30 ms + 2.5 % of its distance from the stimulus
     centre) of where the coarse match puts it.  Anchors matching at less than 30 % of
     the best anchor's coefficient are ignored.  With fewer than two usable anchors, or
     anchors spanning less than ``min_baseline_s``, the clock ratio is taken as 1.
@@ -275,7 +275,7 @@ def align_to_anchors(
     centre = 0.5 * stimulus.size
     pos_s, pos_r, wts = [], [], []
     for a in anchors:
-        search = int(0.03 * fs + 0.012 * abs(a.centre - centre))
+        search = int(0.03 * fs + 0.025 * abs(a.centre - centre))
         m = locate(stimulus[a.start:a.stop], recording, expected_lag=coarse.lag + a.start, search_samples=search)
         pos_s.append(float(a.start))
         pos_r.append(m.lag)

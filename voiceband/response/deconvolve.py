@@ -43,6 +43,7 @@ __all__ = [
     "separate_harmonics",
     "window_response",
     "window_group_delay_s",
+    "band_limit_response",
     "deconvolved_noise_power",
     "IN_BAND_REGULARISATION_DB",
 ]
@@ -65,6 +66,12 @@ class Deconvolution:
     n_fft : int
     stimulus_power : numpy.ndarray
         |X(f)|² on the ``numpy.fft.rfftfreq(n_fft)`` grid.
+    band_limit : numpy.ndarray
+        The minimum-phase band limit built into ``impulse_response`` (complex, same grid);
+        see :func:`band_limit_response`.
+    band_limit_peak_lag : int
+        Lag of the band limit's own impulse-response peak (0 or a few samples); the
+        chain's response peak is found this much later.
     recording_length : int
         Samples of the recording excerpt that was deconvolved.
     """
@@ -73,6 +80,8 @@ class Deconvolution:
     sample_rate_hz: int
     n_fft: int
     stimulus_power: np.ndarray
+    band_limit: np.ndarray
+    band_limit_peak_lag: int
     recording_length: int
 
 
@@ -108,7 +117,7 @@ class SeparatedResponses:
     Attributes
     ----------
     peak_lag : int
-        Lag of the linear response's largest sample.
+        Lag of the linear response's largest sample, less the band limit's peak lag.
     linear : IRWindow
     harmonics : tuple of IRWindow
         Orders 2, 3, … in ascending order.
@@ -177,10 +186,61 @@ def deconvolve(
     ramp = np.clip(np.maximum((np.log2(lo) - lf) / 1.0, (lf - np.log2(hi)) * 12.0), 0.0, 1.0)
     eps_in = ref * 10.0 ** (IN_BAND_REGULARISATION_DB / 10.0)
     eps = eps_in * (ref / eps_in) ** ramp
-    h = sfft.irfft(Y * np.conj(X) / (px + eps), n)
+    # The regularisation limits the band by |X|²/(|X|² + ε), a zero-phase filter whose
+    # ringing at f1 and f2 would run *before* the response peak, into the harmonic
+    # windows and past the short pre-peak window.  Giving it minimum phase moves all its
+    # ringing after the peak, inside the linear window; it is divided out afterwards.
+    limit = _minimum_phase(px / (px + eps), n)
+    h = sfft.irfft(Y * np.conj(X) / (px + eps) * np.exp(1j * np.angle(limit)), n)
     h.setflags(write=False)
     px.setflags(write=False)
-    return Deconvolution(impulse_response=h, sample_rate_hz=fs, n_fft=n, stimulus_power=px, recording_length=int(y.size))
+    limit.setflags(write=False)
+    limit_ir = sfft.irfft(limit, n)
+    return Deconvolution(
+        impulse_response=h,
+        sample_rate_hz=fs,
+        n_fft=n,
+        stimulus_power=px,
+        band_limit=limit,
+        band_limit_peak_lag=int(np.argmax(np.abs(limit_ir[: n // 2]))),
+        recording_length=int(y.size),
+    )
+
+
+def _minimum_phase(magnitude: np.ndarray, n: int) -> np.ndarray:
+    """Minimum-phase spectrum with the given magnitude on an n-point rfft grid (folded real cepstrum).
+
+    References
+    ----------
+    A. V. Oppenheim and R. W. Schafer, *Discrete-Time Signal Processing*, 3rd ed., §13.8
+    (homomorphic minimum-phase construction; from memory).
+    """
+    from scipy import fft as sfft
+
+    c = sfft.irfft(np.log(np.maximum(magnitude, 1e-9)), n)
+    fold = np.zeros(n)
+    fold[0] = c[0]
+    half = (n + 1) // 2
+    fold[1:half] = 2.0 * c[1:half]
+    if n % 2 == 0:
+        fold[n // 2] = c[n // 2]
+    return np.exp(sfft.rfft(fold, n))
+
+
+def band_limit_response(deconvolution: Deconvolution, frequencies_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(complex gain, group delay in s) of the deconvolution's own band limit at ``frequencies_hz``.
+
+    Divide a window's response by the gain (and subtract the group delay) to remove it.
+    """
+    fs = deconvolution.sample_rate_hz
+    lim = deconvolution.band_limit
+    grid = np.arange(lim.size) * fs / deconvolution.n_fft
+    f = np.asarray(frequencies_hz, dtype=np.float64)
+    mag = np.interp(f, grid, np.abs(lim))
+    ph = np.unwrap(np.angle(lim))
+    phase = np.interp(f, grid, ph)
+    gd = -np.gradient(ph, 2.0 * np.pi * fs / deconvolution.n_fft)
+    return mag * np.exp(1j * phase), np.interp(f, grid, gd)
 
 
 def _taper(n_pre: int, n_post: int) -> np.ndarray:
@@ -214,7 +274,8 @@ def separate_harmonics(
 ) -> SeparatedResponses:
     """Cut the linear and harmonic impulse responses out of a deconvolved sweep.
 
-    The linear response's peak is searched in ``peak_search_lags``.  The k-th harmonic's
+    The linear response's peak is searched in ``peak_search_lags`` (and moved back by the
+    band limit's own peak lag).  The k-th harmonic's
     response starts L·ln k before it (Farina 2000).  The boundary between orders k and
     k−1 lies a quarter of the way from the k−1 response back to the k response, so each
     window holds the quarter before its response and three quarters after, never more
@@ -233,7 +294,7 @@ def separate_harmonics(
     region = np.abs(h[np.mod(lags, h.size)])
     if region.size == 0 or float(region.max()) <= 0.0:
         raise MeasurementError("The deconvolved recording holds no impulse response; the recording does not contain the stimulus.")
-    peak = int(lags[int(np.argmax(region))])
+    peak = int(lags[int(np.argmax(region))]) - deconvolution.band_limit_peak_lag
     n_post = max(16, int(round(post_s * fs)))
     n_pre = max(8, int(round(min(0.25 * lc * np.log(2.0), MAX_PRE_S) * fs)))
     linear = _cut(h, 1, peak, n_pre, n_post)

@@ -21,6 +21,7 @@ import numpy as np
 from ..errors import MeasurementError, SignalValueError
 from . import align as _align
 from .deconvolve import (
+    band_limit_response,
     deconvolve,
     deconvolved_noise_power,
     separate_harmonics,
@@ -230,7 +231,7 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     seg = sw.segment
     findings: list[str] = []
     top = min(sw.stop_hz * 2.0 ** (-1.0 / 12.0), 0.45 * min(fs, fs_rec))
-    band = (sw.start_hz * 2.0 ** (1.0 / 6.0), top)
+    band = (sw.start_hz * 2.0 ** (1.0 / 3.0), top)
     if band[1] <= 1.2 * band[0]:
         raise MeasurementError("The sweep's band lies above what the recording's sample rate can hold.")
     anchors = ana.anchors
@@ -281,13 +282,14 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     sep = separate_harmonics(dec, rate_constant_s=lc, peak_search_lags=search, orders=HARMONIC_ORDERS, post_s=ir_window_s)
     h = dec.impulse_response
     rms = float(np.sqrt(np.mean(h * h)))
-    if rms <= 0.0 or abs(h[sep.peak_lag % h.size]) < _MIN_PEAK_TO_RMS * rms:
+    if rms <= 0.0 or abs(h[(sep.peak_lag + dec.band_limit_peak_lag) % h.size]) < _MIN_PEAK_TO_RMS * rms:
         raise MeasurementError(
             "The recording does not contain the stimulus sweep (no clear impulse response after deconvolution)."
         )
 
     freqs = log_grid_hz(band[0], band[1], points_per_octave=POINTS_PER_OCTAVE)
-    h1 = window_response(sep.linear, freqs, fs)
+    limit, limit_gd = band_limit_response(dec, freqs)
+    h1 = window_response(sep.linear, freqs, fs) / limit
     with np.errstate(divide="ignore"):
         mag_raw = 20.0 * np.log10(np.abs(h1))
     noise = _quiet_stretch(z, origin, ana, fs)
@@ -310,7 +312,7 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     # about 18°) or unknown.
     keep = np.isfinite(mag) & ~(snr < _MIN_PHASE_SNR_DB)
     phase = np.where(keep, phase, np.nan)
-    gd = np.where(keep, window_group_delay_s(sep.linear, freqs, fs), np.nan)
+    gd = np.where(keep, window_group_delay_s(sep.linear, freqs, fs) - limit_gd, np.nan)
 
     # Harmonic distortion per input frequency (Farina 2000: order k at output frequency k·f).
     # A point is reported where the harmonic stands 6 dB above its expected noise power;
@@ -329,7 +331,7 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
         ok = (k * freqs <= band[1]) & (k * freqs >= 4.0 * sw.start_hz) & np.isfinite(mag)
         summary = None
         if np.any(ok):
-            pk = np.abs(window_response(win, k * freqs[ok], fs)) ** 2
+            pk = np.abs(window_response(win, k * freqs[ok], fs) / band_limit_response(dec, k * freqs[ok])[0]) ** 2
             nk = deconvolved_noise_power(dec, win, noise, k * freqs[ok]) if noise is not None else np.zeros(pk.size)
             with np.errstate(divide="ignore", invalid="ignore"):
                 levels[i, ok] = np.where(pk >= 4.0 * nk, 10.0 * np.log10(pk / h1_pow[ok]), np.nan)
