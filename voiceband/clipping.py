@@ -28,8 +28,10 @@ For each polarity, over the whole recording:
    ``[v (1 - w), v)`` just below it.  Near a smooth maximum a waveform spends
    time ∝ sqrt(depth) within a given depth of its peak, so an unclipped tail
    has ``P / B`` of about ``sqrt(eps / w)``, where ``eps`` is the relative
-   resolution of the values (bin width or quantisation step, estimated from the
-   spacing of occupied histogram bins unless ``quantization_step`` is given).
+   resolution of the values: the bin width, or the quantisation step re ``v``.
+   The step is ``quantization_step`` when given, else detected: 2**-7, 2**-15 or
+   2**-23 when every examined sample lies on that 8-, 16- or 24-bit PCM grid,
+   otherwise 0 (floating-point values).
    A level is a clip level when ``P / (B + 1) > 4 sqrt(eps / w)``, it carries at
    least two runs, and ``P >= 4``.  Here ``w = max(1 %, 30 eps)``.  The
    original per-frame coefficient of Aleinik & Matveev is not used: a pure tone's
@@ -73,8 +75,8 @@ _BINS_PER_OCTAVE = 1.0 / math.log2(1.0 + _BIN_REL)
 _SPIKE_FACTOR = 4.0
 _BAND_MIN_REL = 0.01
 _BAND_PER_EPS = 10.0
-# Occupied bins used to estimate the value resolution.
-_SPACING_BINS = 32
+# PCM grids tried, coarsest first: 8-, 16- and 24-bit steps are 2**-7, 2**-15, 2**-23.
+_PCM_GRID_BITS = (7, 15, 23)
 # The histogram reaches this far below the search region, for the comparison band (dB).
 _BAND_ROOM_DB = 2.0
 _MIN_RUNS = 2
@@ -235,10 +237,26 @@ class _Side:
         self.levels: dict[int, _LevelRuns] = {}
         # open run at the end of the previous block: (value, global start, length)
         self.open: Optional[tuple[float, int, int]] = None
+        # index into _PCM_GRID_BITS of the coarsest grid all examined values lie on
+        # (len(_PCM_GRID_BITS) when they lie on none: continuous values)
+        self.grid = 0
+
+    def grid_step(self) -> float:
+        """Quantisation step of the examined values: 2**-bits of a PCM grid they lie on, else 0."""
+        if self.grid < len(_PCM_GRID_BITS):
+            return 2.0 ** -_PCM_GRID_BITS[self.grid]
+        return 0.0
+
+    def check_grid(self, v: np.ndarray) -> None:
+        while self.grid < len(_PCM_GRID_BITS):
+            scaled = v * 2.0 ** _PCM_GRID_BITS[self.grid]
+            if np.array_equal(scaled, np.round(scaled)):
+                return
+            self.grid += 1
 
     def copy(self) -> "_Side":
         c = _Side(self.n_bins)
-        c.extreme, c.base = self.extreme, self.base
+        c.extreme, c.base, c.grid = self.extreme, self.base, self.grid
         c.hist = self.hist.copy()
         c.levels = {b: lv.copy() for b, lv in self.levels.items()}
         c.open = self.open
@@ -380,6 +398,8 @@ class ClippingAccumulator:
         v = x[idx]
         if sign < 0:
             v = -v
+        if self._q is None:
+            side.check_grid(v)
         bins = _bin_of(v)
         if bins.size > 4096:
             side.hist += np.bincount(bins - side.base, minlength=side.n_bins)[:side.n_bins]
@@ -507,16 +527,9 @@ class ClippingAccumulator:
             p = int(hist[k])
             if p < _MIN_CLIPPED:
                 continue
-            # Relative value resolution eps: the given step, or the mean spacing
-            # of the occupied bins nearest below the level.
-            if self._q is not None:
-                eps = max(_BIN_REL, self._q / lv.value)
-            else:
-                occ = np.flatnonzero(hist[floor:k])[-_SPACING_BINS:]
-                if occ.size == 0:
-                    eps = _BIN_REL * (k - floor)
-                else:
-                    eps = _BIN_REL * max(1.0, (k - floor - occ[0]) / occ.size)
+            # Relative value resolution: the quantisation step, given or detected.
+            step = self._q if self._q is not None else side.grid_step()
+            eps = max(_BIN_REL, step / lv.value)
             w = max(_BAND_MIN_REL, _BAND_PER_EPS * eps)
             j = int(math.ceil(-math.log2(1.0 - w) * _BINS_PER_OCTAVE)) if w < 1.0 else k + 1
             if j > k - floor:
