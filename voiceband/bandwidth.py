@@ -72,8 +72,8 @@ class PassbandEdges:
         ``None`` when the response does not fall that far inside the analysed bands (the
         edge lies beyond ``lowest_band_hz`` / ``highest_band_hz``) or cannot be estimated.
     passband_level_db : float or None
-        Median of the smoothed response over its best bands (those within 6 dB of its
-        maximum); dB re the reference spectrum, so only differences are meaningful.
+        Median of the smoothed response over its 6 best bands; dB re the reference
+        spectrum, so only differences are meaningful.
     drop_db : float
         The edge criterion (10 dB by default).
     reference : str
@@ -249,6 +249,8 @@ def _interp_segment(x: np.ndarray, y: np.ndarray, i: int, target: float) -> floa
     return float(x[i] + t * (x[i + 1] - x[i]))
 
 
+#: Bands (two octaves' worth) whose median response is the passband level.
+_PASSBAND_BANDS = 6
 #: Depth below the response maximum at which the estimated response is floored (dB).
 _FLOOR_DB = 30.0
 
@@ -281,8 +283,9 @@ def passband_edges(
     3. Response floored at 30 dB below its maximum (so a band with no speech left does not
        drag its neighbours far below the criterion) and smoothed with a (1, 2, 1)/4 kernel
        across adjacent bands.
-    4. Passband level = median of the smoothed response over the bands within 6 dB of its
-       maximum.
+    4. Passband level = median of the smoothed response over its 6 best bands (two octaves'
+       worth: robust to a narrow peak, e.g. a talker's strong fundamental, and still inside
+       the flat part of any voice passband).
     5. Starting from the maximum, the first band on each side below passband level minus
        ``drop_db`` marks an edge; the crossing is interpolated linearly in log frequency
        between exact band centres (IEC 61260-1 base-10).
@@ -364,8 +367,7 @@ def passband_edges(
     resp = np.where(finite, np.maximum(resp, top - _FLOOR_DB), top - _FLOOR_DB)
     padded = np.concatenate(([resp[0]], resp, [resp[-1]]))
     smooth = 0.25 * padded[:-2] + 0.5 * padded[1:-1] + 0.25 * padded[2:]
-    top = float(np.max(smooth))
-    level_pb = float(np.median(smooth[smooth >= top - 6.0]))
+    level_pb = float(np.median(np.sort(smooth)[-_PASSBAND_BANDS:]))
     thr = level_pb - drop_db
     logf = np.log2(_exact_centre_hz(common_f))
     i_max = int(np.argmax(smooth))
