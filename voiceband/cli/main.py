@@ -25,6 +25,8 @@ app = typer.Typer(
 _COMMANDS = [
     ("analyze", "voiceband.cli.analyze", "analyze"),
     ("response", "voiceband.cli.response", "response"),
+    ("synth", "voiceband.cli.synth", "synth"),
+    ("testsignal", "voiceband.cli.testsignal", "testsignal"),
 ]
 
 for _name, _module, _func in _COMMANDS:

@@ -68,10 +68,10 @@ THIRD_OCTAVE_CENTRES_HZ = band_procedure("one-third-octave").centres_hz
 #: ``test_stored_tables_are_their_derivation`` re-derives them.  Each rendition's own
 #: equaliser is computed at run time around these gains (see :func:`synthesize_speech`).
 CALIBRATION_DB = {
-    "normal": (-0.91, -0.43, 4.36, -1.48, -2.41, -0.49, -4.22, -3.40, 3.07, -1.34, 5.78, -1.89, -2.19, -2.48, -4.48, 5.66, 3.44, 3.42),
-    "raised": (-0.61, -6.10, 2.87, 0.83, -3.15, -1.74, -2.00, -4.27, -0.78, 3.32, 4.79, -2.13, -0.65, -1.48, -3.30, 6.86, 4.30, 3.24),
-    "loud": (2.95, -3.81, -1.86, 3.42, -2.67, -3.72, -4.26, -2.92, -0.95, 0.59, 3.02, -3.16, -2.56, -1.27, -1.41, 7.99, 5.50, 5.12),
-    "shout": (4.24, -6.17, -3.25, -3.03, -0.95, -3.53, -7.39, -1.01, -3.24, 3.86, 3.30, -3.47, -3.78, -4.08, -1.75, 12.17, 9.03, 9.07),
+    "normal": (-1.14, -0.39, 4.50, -1.69, -2.49, -0.67, -3.78, -3.94, 3.51, -1.23, 5.74, -1.90, -2.21, -2.50, -4.46, 5.66, 3.49, 3.49),
+    "raised": (-0.73, -6.16, 2.98, 0.71, -3.11, -1.73, -1.64, -4.68, -0.14, 2.46, 4.90, -2.09, -0.72, -1.36, -3.23, 6.89, 4.33, 3.32),
+    "loud": (2.75, -4.07, -1.80, 3.57, -2.81, -3.69, -3.72, -3.20, -0.84, 0.69, 2.92, -3.20, -2.64, -1.19, -1.45, 7.93, 5.53, 5.22),
+    "shout": (4.22, -6.26, -3.60, -2.81, -1.03, -3.74, -6.90, -0.98, -3.27, 3.18, 3.35, -3.48, -3.70, -3.94, -1.60, 12.27, 9.11, 9.18),
 }
 
 #: Long-term deviation, dB, of the low and high voices from ANSI S3.5-1997 Table 3 after the
@@ -80,16 +80,16 @@ CALIBRATION_DB = {
 #: definition.  Derived with :data:`CALIBRATION_DB` by :func:`derive_calibration_tables`.
 VOICE_DEVIATION_DB = {
     "low": {
-        "normal": (-0.18, -0.64, 5.27, 1.14, -1.98, 0.96, -1.74, -3.58, -1.80, -5.92, 1.44, -0.31, -0.41, 0.69, -3.30, 2.56, 3.79, 4.02),
-        "raised": (2.93, -1.07, 2.87, 4.29, -1.54, 0.29, 0.89, -2.53, -2.59, -5.01, -0.27, -1.47, -0.60, 0.35, -4.16, 1.27, 2.99, 3.36),
-        "loud": (8.33, 0.71, 0.14, 4.82, 2.23, -1.17, -1.42, 0.40, -2.54, -4.81, -1.29, -3.00, -3.04, 0.04, -4.64, 0.22, 2.30, 2.74),
-        "shout": (16.98, 5.90, -1.26, 1.06, 3.55, -0.07, -1.41, 0.40, -4.20, -2.48, -0.47, -2.22, -3.91, -4.48, -8.57, -1.54, 1.01, 1.70),
+        "normal": (-0.44, -0.30, 5.30, 1.13, -2.01, 0.75, -1.61, -4.16, -1.65, -5.40, 1.52, -0.46, -0.38, 0.67, -3.30, 2.54, 3.81, 4.00),
+        "raised": (2.78, -1.06, 3.11, 4.30, -1.64, 0.26, 0.87, -2.56, -2.74, -5.26, -0.23, -1.45, -0.64, 0.49, -3.89, 1.32, 3.00, 3.34),
+        "loud": (8.11, 0.38, 0.38, 4.83, 2.45, -1.11, -1.21, -0.05, -2.51, -4.48, -1.24, -3.31, -3.08, 0.04, -4.41, 0.26, 2.25, 2.70),
+        "shout": (17.04, 5.67, -1.51, 1.33, 3.49, 0.05, -1.29, 0.54, -4.00, -2.83, -0.51, -2.33, -3.93, -4.46, -8.46, -1.51, 1.00, 1.70),
     },
     "high": {
-        "normal": (-13.67, -3.66, 1.81, 1.24, -3.20, 1.26, 2.75, 1.26, 3.95, 0.40, 1.42, 0.34, -0.58, 1.42, 3.67, 4.92, -0.61, -2.71),
-        "raised": (-19.82, -7.39, -0.43, 2.81, -3.03, -0.72, 5.18, 0.75, 0.86, 4.30, 3.37, 2.37, 2.15, 2.29, 3.51, 5.07, 0.20, -1.46),
-        "loud": (-22.37, -14.04, -3.51, 2.09, 0.88, -2.94, 0.46, 4.50, 3.87, 2.60, 1.97, 3.99, 3.02, 5.47, 5.85, 6.79, 1.57, -0.20),
-        "shout": (-11.21, -21.57, -10.21, -2.05, 2.42, -0.67, -1.42, 5.26, 4.58, 2.71, 0.64, 3.16, 1.91, 4.33, 8.74, 9.40, 3.26, 0.72),
+        "normal": (-13.67, -3.52, 1.96, 1.02, -3.42, 1.25, 2.54, 1.49, 3.91, 0.67, 1.39, 0.24, -0.48, 1.42, 3.71, 4.86, -0.65, -2.74),
+        "raised": (-20.01, -7.22, -0.18, 2.60, -2.87, -0.55, 5.10, 0.30, 1.21, 4.24, 3.24, 2.30, 2.29, 2.33, 3.53, 5.02, 0.14, -1.46),
+        "loud": (-22.49, -14.11, -3.36, 2.34, 0.82, -2.78, 0.97, 4.07, 3.59, 2.62, 2.01, 3.73, 2.93, 5.48, 5.75, 6.91, 1.69, -0.15),
+        "shout": (-11.25, -21.72, -10.16, -1.87, 2.23, -0.29, -1.08, 5.51, 3.78, 3.07, 0.40, 3.10, 1.92, 4.40, 8.69, 9.38, 3.21, 0.69),
     },
 }
 
@@ -829,6 +829,19 @@ def _band_levels_from_psd(psd: np.ndarray, df_hz: float) -> np.ndarray:
         return 10.0 * np.log10(power)
 
 
+def _power_per_hz(x: np.ndarray, fs: int) -> np.ndarray:
+    """Long-term power spectrum on 1 Hz bins 0 … fs/2 (relative scale).
+
+    The periodogram of the whole signal (one FFT, rectangular window: the recording starts
+    and ends in silence, so there is no edge leakage), summed into 1 Hz bins.  Band sums of
+    it are the band powers by Parseval's theorem.
+    """
+    spec = np.fft.rfft(x)
+    power = spec.real**2 + spec.imag**2
+    k = (np.arange(power.size) * (fs / x.size)).astype(np.int64)
+    return np.bincount(k, weights=power, minlength=fs // 2 + 1)[: fs // 2 + 1]
+
+
 def _equaliser_gains(
     x: np.ndarray,
     fs: int,
@@ -840,25 +853,21 @@ def _equaliser_gains(
 ) -> np.ndarray:
     """One-third-octave gains whose :func:`calibration_fir` puts ``x`` on ``target_band_db``.
 
-    The long-term spectrum of ``x`` is measured once (Welch, 1 s Hann segments, 1 Hz
-    bins); the equalised band levels are predicted from it and the FIR's own response, and
-    the gains refined ``iterations`` times, so the FIR's smoothing between band centres is
-    allowed for.  Bands reaching the Nyquist frequency are left at ``centre_db``; gains
+    The long-term spectrum of ``x`` is measured once (:func:`_power_per_hz`); the
+    equalised band levels are predicted from it and the FIR's own response, and the gains
+    refined ``iterations`` times, so the FIR's smoothing between band centres is allowed
+    for.  Bands reaching the Nyquist frequency are left at ``centre_db``; gains
     stay within ``limit_db`` of ``centre_db``.  Levels are compared after alignment (zero
     mean over the usable bands).
     """
-    from scipy import signal
-
-    nper = min(fs, x.size)
-    f, psd = signal.welch(x, fs, window="hann", nperseg=nper, noverlap=nper // 2)
-    df = f[1] - f[0]
+    psd = _power_per_hz(x, fs)
     _, hi = _band_limits_hz()
     usable = hi < 0.5 * fs
     gains = np.array(centre_db, dtype=np.float64)
     for _ in range(iterations):
         h = calibration_fir(gains, fs)
-        resp = np.abs(np.fft.rfft(h, n=2 * (f.size - 1))) ** 2
-        levels = _band_levels_from_psd(psd * resp[: f.size], df)
+        resp = np.abs(np.fft.rfft(h, n=fs)) ** 2  # on the same 1 Hz grid
+        levels = _band_levels_from_psd(psd * resp[: psd.size], 1.0)
         dev = levels - target_band_db
         ok = usable & np.isfinite(dev)
         if not ok.any():
@@ -904,8 +913,7 @@ def derive_calibration_tables(
         for voice in ("low", "high"):
             raw_v = synthesize_speech_raw(duration_s, fs, voice=voice, effort=effort, seed=seed)
             y = signal.oaconvolve(raw_v, h, mode="same")
-            f, psd = signal.welch(y, fs, window="hann", nperseg=fs, noverlap=fs // 2)
-            d = _band_levels_from_psd(psd, f[1] - f[0]) - target
+            d = _band_levels_from_psd(_power_per_hz(y, fs), 1.0) - target
             d = np.where(usable, d - d[usable].mean(), 0.0)
             dev[voice][effort] = tuple(round(float(v), 2) for v in d)
     return cal, dev

@@ -1,0 +1,61 @@
+"""``voiceband synth``: regenerate the synthetic corpus from its spec files."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+
+from .common import EXIT_BAD_INPUT, fail, guarded
+
+_DEFAULT_FOLDER = Path("corpus_synthetic")
+
+
+@guarded
+def synth(
+    out: Annotated[
+        Path, typer.Option("--out", "-o", help="Folder for the WAV files and manifest.json.", show_default=False)
+    ],
+    specs: Annotated[
+        Optional[list[Path]],
+        typer.Argument(
+            help="Spec files (TOML). Default: every *.toml in ./corpus_synthetic.", show_default=False
+        ),
+    ] = None,
+    force: Annotated[bool, typer.Option("--force", help="Overwrite existing WAV files and the manifest.")] = False,
+    verify: Annotated[
+        bool,
+        typer.Option("--verify", help="Write nothing: regenerate in a temporary folder and compare hashes with OUT/manifest.json."),
+    ] = False,
+) -> None:
+    """Render synthetic speech recordings from spec files and record their hashes in a manifest."""
+    from ..errors import ChainFileError
+    from ..synth import corpus
+
+    paths = list(specs) if specs else corpus.default_spec_paths(_DEFAULT_FOLDER)
+    if not paths:
+        raise ChainFileError(f"no spec files given and none found in '{_DEFAULT_FOLDER}/'.")
+    if verify:
+        results = corpus.verify(paths, out / corpus.MANIFEST_NAME)
+        bad = 0
+        for name, recorded, now in results:
+            if recorded is None:
+                state = "not in manifest"
+                bad += 1
+            elif recorded == now:
+                state = "same"
+            else:
+                state = "DIFFERENT"
+                bad += 1
+            typer.echo(f"{name:32s} {state:16s} {now[:16]}")
+        if bad:
+            raise fail(f"{bad} of {len(results)} regenerated file(s) do not match '{out / corpus.MANIFEST_NAME}'", EXIT_BAD_INPUT)
+        typer.echo(f"All {len(results)} file(s) match the manifest.")
+        return
+
+    def report(e) -> None:
+        typer.echo(f"{str(out / e.file):40s} {e.duration_s:5.1f} s  {e.sample_rate_hz:6d} Hz  {e.subtype}  sha256 {e.sha256[:16]}")
+
+    written = corpus.generate(paths, out, force=force, progress=report)
+    typer.echo(f"Wrote {len(written)} file(s) and {out / corpus.MANIFEST_NAME}.")
