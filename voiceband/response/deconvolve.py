@@ -66,9 +66,11 @@ class Deconvolution:
     n_fft : int
     stimulus_power : numpy.ndarray
         |X(f)|² on the ``numpy.fft.rfftfreq(n_fft)`` grid.
+    band_limit_hz : numpy.ndarray
+        Frequency grid of ``band_limit`` (2^15 + 1 points from 0 to fs/2).
     band_limit : numpy.ndarray
-        The minimum-phase band limit built into ``impulse_response`` (complex, same grid);
-        see :func:`band_limit_response`.
+        The minimum-phase band limit built into ``impulse_response`` (complex); see
+        :func:`band_limit_response`.
     band_limit_peak_lag : int
         Lag of the band limit's own impulse-response peak (0 or a few samples); the
         chain's response peak is found this much later.
@@ -80,6 +82,7 @@ class Deconvolution:
     sample_rate_hz: int
     n_fft: int
     stimulus_power: np.ndarray
+    band_limit_hz: np.ndarray
     band_limit: np.ndarray
     band_limit_peak_lag: int
     recording_length: int
@@ -185,30 +188,44 @@ def deconvolve(
         lf = np.log2(np.maximum(f, 1e-9))
     ramp = np.clip(np.maximum((np.log2(lo) - lf) / 1.0, (lf - np.log2(hi)) * 12.0), 0.0, 1.0)
     eps_in = ref * 10.0 ** (IN_BAND_REGULARISATION_DB / 10.0)
-    eps = eps_in * (ref / eps_in) ** ramp
+    eps = np.full(px.size, eps_in)
+    out = ramp > 0.0
+    eps[out] = eps_in * (ref / eps_in) ** ramp[out]
     # The regularisation limits the band by |X|²/(|X|² + ε), a zero-phase filter whose
     # ringing at f1 and f2 would run *before* the response peak, into the harmonic
     # windows and past the short pre-peak window.  Giving it minimum phase moves all its
     # ringing after the peak, inside the linear window; it is divided out afterwards.
-    limit = _minimum_phase(px / (px + eps), n)
-    h = sfft.irfft(Y * np.conj(X) / (px + eps) * np.exp(1j * np.angle(limit)), n)
+    # The limit is smooth, so its phase is built on a coarse grid and interpolated.
+    gain = px / (px + eps)
+    grid_hz, limit = _coarse_minimum_phase(gain, fs)
+    phase = np.interp(f, grid_hz, np.unwrap(np.angle(limit)))
+    h = sfft.irfft(Y * np.conj(X) / (px + eps) * np.exp(1j * phase), n)
     h.setflags(write=False)
     px.setflags(write=False)
     limit.setflags(write=False)
-    limit_ir = sfft.irfft(limit, n)
+    grid_hz.setflags(write=False)
+    limit_ir = sfft.irfft(limit, 2 * (limit.size - 1))
     return Deconvolution(
         impulse_response=h,
         sample_rate_hz=fs,
         n_fft=n,
         stimulus_power=px,
+        band_limit_hz=grid_hz,
         band_limit=limit,
-        band_limit_peak_lag=int(np.argmax(np.abs(limit_ir[: n // 2]))),
+        band_limit_peak_lag=int(np.argmax(np.abs(limit_ir[: limit.size // 2]))),
         recording_length=int(y.size),
     )
 
 
-def _minimum_phase(magnitude: np.ndarray, n: int) -> np.ndarray:
-    """Minimum-phase spectrum with the given magnitude on an n-point rfft grid (folded real cepstrum).
+_COARSE_N = 1 << 16
+
+
+def _coarse_minimum_phase(gain: np.ndarray, fs: int) -> tuple[np.ndarray, np.ndarray]:
+    """Minimum-phase version of a smooth band-limiting gain, on a 2^16-point grid.
+
+    ``gain`` (an rfft grid over 0…fs/2) is averaged in log over blocks onto the coarse
+    grid; the minimum phase comes from the folded real cepstrum.  Returns (grid in Hz,
+    complex minimum-phase response).
 
     References
     ----------
@@ -217,14 +234,19 @@ def _minimum_phase(magnitude: np.ndarray, n: int) -> np.ndarray:
     """
     from scipy import fft as sfft
 
-    c = sfft.irfft(np.log(np.maximum(magnitude, 1e-9)), n)
-    fold = np.zeros(n)
+    m = _COARSE_N // 2 + 1
+    lg = np.log(np.maximum(gain, 1e-9))
+    edges = np.linspace(0, gain.size, m + 1).round().astype(np.int64)  # non-decreasing
+    sums = np.add.reduceat(lg, np.minimum(edges[:-1], gain.size - 1))
+    counts = np.maximum(np.diff(edges), 1)
+    coarse = np.where(np.diff(edges) > 0, sums / counts, lg[np.minimum(edges[:-1], gain.size - 1)])
+    c = sfft.irfft(coarse, _COARSE_N)
+    fold = np.zeros(_COARSE_N)
     fold[0] = c[0]
-    half = (n + 1) // 2
-    fold[1:half] = 2.0 * c[1:half]
-    if n % 2 == 0:
-        fold[n // 2] = c[n // 2]
-    return np.exp(sfft.rfft(fold, n))
+    fold[1:_COARSE_N // 2] = 2.0 * c[1:_COARSE_N // 2]
+    fold[_COARSE_N // 2] = c[_COARSE_N // 2]
+    grid = np.linspace(0.0, fs / 2.0, m)
+    return grid, np.exp(sfft.rfft(fold, _COARSE_N))
 
 
 def band_limit_response(deconvolution: Deconvolution, frequencies_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -232,15 +254,13 @@ def band_limit_response(deconvolution: Deconvolution, frequencies_hz: np.ndarray
 
     Divide a window's response by the gain (and subtract the group delay) to remove it.
     """
-    fs = deconvolution.sample_rate_hz
+    grid = deconvolution.band_limit_hz
     lim = deconvolution.band_limit
-    grid = np.arange(lim.size) * fs / deconvolution.n_fft
     f = np.asarray(frequencies_hz, dtype=np.float64)
     mag = np.interp(f, grid, np.abs(lim))
     ph = np.unwrap(np.angle(lim))
-    phase = np.interp(f, grid, ph)
-    gd = -np.gradient(ph, 2.0 * np.pi * fs / deconvolution.n_fft)
-    return mag * np.exp(1j * phase), np.interp(f, grid, gd)
+    gd = -np.gradient(ph, 2.0 * np.pi * grid)
+    return mag * np.exp(1j * np.interp(f, grid, ph)), np.interp(f, grid, gd)
 
 
 def _taper(n_pre: int, n_post: int) -> np.ndarray:

@@ -1,0 +1,132 @@
+"""Bad inputs give one clear sentence, never a wrong curve; clipping detection; passband metrics."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+import scipy.signal as ss
+
+from voiceband.errors import MeasurementError, SignalValueError
+from voiceband.response import measure_response
+from voiceband.response.metrics import passband_edges, passband_level_db, passband_ripple_db
+from voiceband.response.quality import check_recording, clipped_runs
+from voiceband.response.stimulus import analyse_stimulus
+from voiceband.synth.sweep import exponential_sweep
+
+FS = 16000
+BANDPASS = ss.butter(2, [300.0, 3400.0], "bandpass", fs=FS, output="sos")
+
+
+@pytest.fixture(scope="module")
+def sweep():
+    return np.asarray(exponential_sweep(duration_s=3.0, sample_rate_hz=FS).samples)
+
+
+@pytest.fixture(scope="module")
+def good(sweep):
+    return ss.sosfilt(BANDPASS, np.concatenate([np.zeros(3000), sweep, np.zeros(FS)]))
+
+
+def _one_sentence(msg: str) -> bool:
+    return msg.count(". ") == 0 and msg.endswith(".") and "\n" not in msg
+
+
+@pytest.mark.parametrize(
+    "make, match",
+    [
+        (lambda s, g, rng: np.zeros(g.size), "silent"),
+        (lambda s, g, rng: 1e-6 * rng.standard_normal(g.size), "silent"),
+        (lambda s, g, rng: 0.1 * rng.standard_normal(g.size), "does not contain the stimulus"),
+        (lambda s, g, rng: ss.sosfilt(BANDPASS, rng.standard_normal(g.size)) * (1 + np.sin(2 * np.pi * 4 * np.arange(g.size) / FS)),
+         "does not contain the stimulus"),
+        (lambda s, g, rng: g[::-1].copy(), "does not contain the stimulus"),
+        (lambda s, g, rng: ss.sosfilt(BANDPASS, np.concatenate(
+            [np.zeros(2000), np.asarray(exponential_sweep(duration_s=2.0, start_hz=100.0, stop_hz=5000.0, sample_rate_hz=FS).samples), np.zeros(3 * FS)])),
+         "does not contain the stimulus"),
+        (lambda s, g, rng: np.clip(3.0 * g, -0.9, 0.9), "clipped"),
+        (lambda s, g, rng: np.clip(3.0 * g, -1.0, 1.0), "clipped"),
+        (lambda s, g, rng: g[:FS], "shorter than the stimulus"),
+        (lambda s, g, rng: g[: g.size - 2 * FS], "shorter than the stimulus"),
+        (lambda s, g, rng: ss.resample(g, int(g.size * 1.02)), "against the stimulus clock"),
+    ],
+    ids=["zeros", "below -90 dBFS", "noise", "speech-like noise", "reversed", "another sweep", "clipped below full scale",
+         "clipped at full scale", "too short", "ends early", "2 % clock"],
+)
+def test_bad_recordings_raise_one_sentence(make, match, sweep, good, rng):
+    with pytest.raises(MeasurementError, match=match) as err:
+        measure_response(sweep, FS, make(sweep, good, rng), FS)
+    assert _one_sentence(str(err.value)), str(err.value)
+
+
+def test_tone_stimulus_with_a_recording_of_something_else(rng):
+    t = np.arange(2 * FS) / FS
+    tones = 0.2 * (np.sin(2 * np.pi * 500 * t) + np.sin(2 * np.pi * 1500 * t))
+    with pytest.raises(MeasurementError, match="does not contain the stimulus"):
+        measure_response(tones, FS, 0.1 * rng.standard_normal(3 * FS), FS)
+
+
+def test_unrecognised_stimulus_and_bad_arrays(rng, sweep, good):
+    with pytest.raises(MeasurementError, match="neither a rising exponential sweep nor"):
+        measure_response(0.1 * rng.standard_normal(2 * FS), FS, good, FS)
+    with pytest.raises(MeasurementError, match="stimulus is silent"):
+        measure_response(np.zeros(FS), FS, good, FS)
+    with pytest.raises(SignalValueError, match="NaN"):
+        measure_response(sweep, FS, np.r_[good, np.nan], FS)
+    with pytest.raises(SignalValueError, match="non-empty"):
+        measure_response(np.zeros(0), FS, good, FS)
+    with pytest.raises(SignalValueError, match="max_offset_hz"):
+        measure_response(sweep, FS, good, FS, max_offset_hz=-1.0)
+
+
+def test_clipped_runs_ignores_clean_low_frequency_peaks():
+    # A 20 Hz sine at 48 kHz quantised to 16 bits repeats samples at its peaks, yet it is not
+    # clipped: the steps into those flat stretches are a fraction of one LSB.
+    t = np.arange(48000) / 48000
+    clean = np.round(0.999 * np.sin(2 * np.pi * 20 * t) * 32767) / 32767
+    assert clipped_runs(clean) == 0
+    check_recording(clean)
+    hard = np.clip(1.5 * np.sin(2 * np.pi * 440 * t), -1.0, 1.0)
+    # two flat tops per cycle, 880 in all; a top whose neighbour sample lies just below the clip
+    # level (a small step in or out) is not counted, so ask for most of them
+    assert 600 <= clipped_runs(hard) <= 880
+    soft_level = np.clip(0.8 * np.sin(2 * np.pi * 440 * t), -0.5, 0.5)  # clipped below full scale
+    assert 600 <= clipped_runs(soft_level) <= 880
+
+
+def test_stimulus_recognition_reads_back_the_sweep():
+    s = exponential_sweep(duration_s=3.0, sample_rate_hz=FS, start_hz=50.0, stop_hz=5000.0)
+    a = analyse_stimulus(np.asarray(s.samples), FS)
+    assert a.kind == "sweep" and len(a.anchors) == 2
+    assert a.sweep.rate_constant_s == pytest.approx(s.rate_constant_s, rel=0.01)
+    assert a.sweep.start_hz == pytest.approx(50.0, rel=0.05) and a.sweep.stop_hz == pytest.approx(5000.0, rel=0.05)
+    assert abs(a.sweep.segment.start - s.sweep_start_index) < 0.01 * FS
+
+
+# --------------------------------------------------------------------------- metrics on analytic curves
+
+
+def _grid():
+    return np.geomspace(20.0, 7000.0, 900)
+
+
+def test_metrics_on_a_butterworth_curve():
+    f = _grid()
+    _, h = ss.sosfreqz(BANDPASS, worN=f, fs=FS)
+    m = 20 * np.log10(np.abs(h))
+    level, i = passband_level_db(f, m)
+    assert level == pytest.approx(0.0, abs=0.01)
+    e = passband_edges(f, m - level, i)
+    assert e.low_3db == pytest.approx(300.0, rel=0.002) and e.high_3db == pytest.approx(3400.0, rel=0.002)  # scipy.signal.butter: Wn at −3 dB
+    assert e.low_10db < e.low_3db < e.high_3db < e.high_10db
+    assert passband_ripple_db(f, m - level, e) == 0.0  # maximally flat
+
+
+def test_metrics_on_a_chebyshev_curve_and_edges_outside_the_band():
+    f = _grid()
+    sos = ss.cheby1(6, 1.0, 3000.0, "lowpass", fs=FS, output="sos")
+    _, h = ss.sosfreqz(sos, worN=f, fs=FS)
+    m = 20 * np.log10(np.abs(h))
+    level, i = passband_level_db(f, m)
+    e = passband_edges(f, m - level, i)
+    assert e.low_3db is None and e.low_10db is None  # a low-pass has no lower edge in the band
+    assert passband_ripple_db(f, m - level, e) == pytest.approx(1.0, abs=0.05)  # design ripple rp = 1 dB
