@@ -30,19 +30,26 @@ For each polarity, over the whole recording:
    has ``P / B`` of about ``sqrt(eps / w)``, where ``eps`` is the relative
    resolution of the values: the bin width, or the quantisation step re ``v``.
    The step is ``quantization_step`` when given, else detected: 2**-7, 2**-15 or
-   2**-23 when every examined sample lies on that 8-, 16- or 24-bit PCM grid,
-   otherwise 0 (floating-point values).
-   A level is a clip level when ``P / (B + 1) > 4 sqrt(eps / w)``, it carries at
-   least two runs, and ``P >= 4``.  Here ``w = max(1 %, 30 eps)``.  The
-   original per-frame coefficient of Aleinik & Matveev is not used: a pure tone's
-   arcsine-shaped histogram also peaks at its tails and would read as clipped.
+   2**-23 when every examined sample (those within ``search_db`` + 2 dB of the
+   running extreme) lies on that 8-, 16- or 24-bit PCM grid, otherwise 0
+   (floating-point values).  A level is a clip level when
+   ``P / (B + 1) > 4 sqrt(eps / w)``, it carries at least two runs, and
+   ``P >= 4``, with ``w = max(1 %, 10 eps)``; when that band does not fit in the
+   histogram (which reaches ``search_db`` + 2 dB below ``L``) the level is not
+   decidable and is not reported, which happens for audio only a few dozen
+   quantisation steps above zero.  The original per-frame coefficient of
+   Aleinik & Matveev is not used: a pure tone's arcsine-shaped histogram also
+   peaks at its tails and would read as clipped.
 4. The highest level passing the test is the polarity's clip level.  Every
    sample in its histogram bin counts as clipped; its runs, merged when closer
    than ``merge_gap_s``, are the clip events.
 
 A square wave or a constant signal sits on its extreme values and is reported
 as clipped.  Soft (analogue) clipping, or clipping followed by filtering or
-lossy coding, leaves no flat top and is not detected by this method.
+lossy coding, leaves no flat top and is not detected by this method.  Quantised
+audio re-scaled in floating point (off every PCM grid) is taken as continuous;
+at very low levels its quantisation steps could then pass for a flat top
+(give ``quantization_step`` to avoid that).
 
 References
 ----------
@@ -203,7 +210,6 @@ class _LevelRuns:
         new_ep = np.ones(starts.size, dtype=bool)
         new_ep[1:] = (starts[1:] - ends[:-1]) > gap
         first = np.flatnonzero(new_ep)
-        last = np.append(first[1:], starts.size) - 1
         samples = np.add.reduceat(lengths, first)
         ep_end = np.maximum.reduceat(ends, first)
         n_closed = first.size - 1
@@ -212,7 +218,6 @@ class _LevelRuns:
             k = min(room, n_closed)
             self.listed.extend(zip(starts[first[:k]].tolist(), ep_end[:k].tolist(), samples[:k].tolist()))
         self.closed += n_closed
-        del last
         self.ep_start = int(starts[first[-1]])
         self.ep_end = int(ep_end[-1])
         self.ep_samples = int(samples[-1])

@@ -280,8 +280,6 @@ class LevelsAccumulator:
         self._hist = np.zeros(_LADDER_BINS, dtype=np.int64)  # samples per ladder bin
         # Work buffers, sized for the block length (no state).
         self._chunk = self._dec * -(-_CHUNK // self._dec)
-        self._ones = np.ones(self._chunk)
-        self._ones_dec = np.ones(self._dec)
         self._abs_buf = np.empty(self._chunk)
 
     # ------------------------------------------------------------------ update
@@ -319,8 +317,9 @@ class LevelsAccumulator:
                 continue
             xc = x[lo:hi]
             m = hi - lo
-            sumsq += float(np.dot(xc, xc))
-            total += float(np.dot(xc, self._ones[:m]))
+            # einsum, not BLAS: a threaded BLAS stalls when the other cores are busy
+            sumsq += float(np.einsum("i,i->", xc, xc))
+            total += float(xc.sum())
             ac = np.abs(xc, out=self._abs_buf[:m])
             mx = float(ac.max())
             if mx > best:
@@ -340,7 +339,7 @@ class LevelsAccumulator:
                 continue
             full = m - m % d
             if full:
-                sums.append(ac[:full].reshape(-1, d) @ self._ones_dec)
+                sums.append(np.einsum("ij->i", ac[:full].reshape(-1, d)))
             if full < m:
                 rest_sum, rest_len = float(ac[full:].sum()), m - full
         if not math.isfinite(sumsq):
@@ -423,7 +422,7 @@ class LevelsAccumulator:
                 p, win = p[keep], win[keep]
                 if p.size == 0:
                     continue
-            y = np.abs(win @ _TP_MATRIX)
+            y = np.abs(np.einsum("ij,jk->ik", win, _TP_MATRIX))
             g = p + start  # global index of each candidate
             # Only windows lying wholly inside the recording count: zeros
             # beyond its edges would make a step and a spurious overshoot.
