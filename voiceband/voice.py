@@ -36,6 +36,8 @@ _GOLDEN = (math.sqrt(5.0) - 1.0) / 2.0
 _MIN_VOICED_FRAMES = 20
 #: Chunks more than this far below the loudest chunk so far are not kept (dB).
 _ELIGIBLE_BELOW_MAX_DB = 30.0
+#: Most samples the reservoir stores (16.8 MB of float32): 60 s up to 69.9 kHz, less above.
+_MAX_STORED_SAMPLES = 1 << 22
 #: Rate at which F0 is estimated (about 8 kHz; F0 and its low harmonics are far below 4 kHz).
 _F0_RATE_HZ = 8000.0
 
@@ -172,8 +174,9 @@ class VoiceReservoir:
     level is within 30 dB of the loudest chunk seen so far; among eligible chunks the
     reservoir keeps the ``capacity_s / chunk_s`` with the smallest priority
     ``frac(index * 0.618...)`` (a golden-ratio sequence, so kept chunks spread evenly over
-    the file).  Memory: ``capacity_s`` of float32 samples (11.5 MB at 48 kHz).  The
-    choice depends only on the chunk sequence, not on how the stream was cut into blocks.
+    the file).  Memory: ``capacity_s`` of float32 samples (11.5 MB at 48 kHz), and never
+    more than 2**22 samples (so 21.8 s at 192 kHz).  The choice depends only on the chunk
+    sequence, not on how the stream was cut into blocks.
 
     Parameters
     ----------
@@ -192,7 +195,7 @@ class VoiceReservoir:
             raise MeasurementError(f"need capacity_s >= chunk_s > 0; got {capacity_s!r}, {chunk_s!r}")
         self.sample_rate_hz = fs
         self.chunk_length = max(1, int(round(chunk_s * fs)))
-        self.capacity = int(capacity_s // chunk_s)
+        self.capacity = max(1, min(int(capacity_s // chunk_s), _MAX_STORED_SAMPLES // self.chunk_length))
         self._store: Optional[np.ndarray] = None
         self._prio: list[float] = []
         self._level: list[float] = []
