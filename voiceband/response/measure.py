@@ -31,7 +31,7 @@ from .deconvolve import (
 from .metrics import PassbandEdges, passband_edges, passband_level_db, passband_ripple_db
 from .offset import DEFAULT_MAX_OFFSET_HZ, shift_frequency, sweep_offset, tone_offset, tone_transfer, track_tones
 from .quality import check_recording
-from .stimulus import Segment, StimulusAnalysis, analyse_stimulus
+from .stimulus import StimulusAnalysis, analyse_stimulus
 from ._framing import log_grid_hz
 
 __all__ = [
@@ -315,9 +315,10 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     gd = np.where(keep, window_group_delay_s(sep.linear, freqs, fs) - limit_gd, np.nan)
 
     # Harmonic distortion per input frequency (Farina 2000: order k at output frequency k·f).
-    # A point is reported where the harmonic stands 6 dB above its expected noise power;
-    # the passband summary subtracts the expected noise power and needs the total to
-    # stand 3 dB above it.
+    # A point is reported where the fundamental is within 20 dB of the passband level and
+    # the harmonic stands 10 dB above its expected noise power (a noise-only point passes
+    # with probability e^-10); the passband summary subtracts the expected noise power and
+    # needs the total to stand 3 dB above it.
     h1_pow = np.abs(h1) ** 2
     lo = edges.low_3db if edges.low_3db is not None else band[0]
     hi = edges.high_3db if edges.high_3db is not None else band[1]
@@ -334,7 +335,7 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
             pk = np.abs(window_response(win, k * freqs[ok], fs) / band_limit_response(dec, k * freqs[ok])[0]) ** 2
             nk = deconvolved_noise_power(dec, win, noise, k * freqs[ok]) if noise is not None else np.zeros(pk.size)
             with np.errstate(divide="ignore", invalid="ignore"):
-                levels[i, ok] = np.where(pk >= 4.0 * nk, 10.0 * np.log10(pk / h1_pow[ok]), np.nan)
+                levels[i, ok] = np.where((pk >= 10.0 * nk) & (mag[ok] >= -20.0), 10.0 * np.log10(pk / h1_pow[ok]), np.nan)
             sel = inpass[ok]
             if np.any(sel) and np.sum(pk[sel]) >= 2.0 * np.sum(nk[sel]):
                 mean_ratio = float(np.mean((pk[sel] - nk[sel]) / h1_pow[ok][sel]))
