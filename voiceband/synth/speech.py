@@ -15,10 +15,14 @@ Filter
 Frication and bursts
     Seeded white noise through a Butterworth band-pass per consonant, added in parallel.
 Calibration
-    A linear-phase FIR equaliser per vocal effort, from the stored table
-    :data:`CALIBRATION_DB` (one-third-octave gains measured on the raw synthesiser), so the
-    long-term spectrum follows ANSI S3.5-1997 Table 3 within ±3 dB in every band
-    160–8000 Hz for the medium voice.
+    A final linear-phase FIR equaliser through one-third-octave gains.  The long-term
+    gains per vocal effort are a stored, derived table (:data:`CALIBRATION_DB`, what the
+    raw medium voice needs to sit on ANSI S3.5-1997 Table 3); each rendition then refines
+    them, deterministically at run time, from its own measured long-term spectrum (within
+    ±8 dB of the table), because a recording of a few seconds holds too few vowels for its
+    spectrum to be the long-term one.  The medium voice lands on Table 3 (after level
+    alignment) within a fraction of a dB in every band 160–8000 Hz; the low and high
+    voices keep their natural long-term difference, :data:`VOICE_DEVIATION_DB`.
 Level
     The result is scaled to an ITU-T P.56 (method B) active speech level, by default
     −26 dBFS (common practice for narrowband test material; trade-facts §3.1).
@@ -297,7 +301,8 @@ def _timeline(duration_s: float, rng: np.random.Generator) -> tuple[list, list]:
     """Segments and accent times (s) for a recording of ``duration_s``.
 
     Phrases of 4–11 syllables (about 4 syllables per second) alternate with pauses of
-    0.5–1.4 s; the recording starts with 0.25–0.5 s and ends with at least 0.3 s of silence.
+    0.5–1.4 s; the recording starts with 0.25–0.5 s and ends with at least 0.3 s of silence
+    (at most a tenth of the duration each, for recordings shorter than 3 s).
     """
     segs: list[_Seg] = []
     accents: list[tuple[float, float]] = []  # (time, size)
@@ -307,8 +312,9 @@ def _timeline(duration_s: float, rng: np.random.Generator) -> tuple[list, list]:
         "onset": _Bag(_ONSETS, _ONSET_W, rng),
         "coda": _Bag(_CODAS, _CODA_W, rng),
     }
-    t = float(rng.uniform(0.25, 0.5))
-    end_margin = 0.3
+    # leading and trailing silence, shortened for very short recordings
+    t = min(float(rng.uniform(0.25, 0.5)), 0.1 * duration_s)
+    end_margin = min(0.3, 0.1 * duration_s)
     while True:
         n_syll = int(rng.integers(4, 12))
         while n_syll > 0:
@@ -668,7 +674,9 @@ def synthesize_speech_raw(
     rng = np.random.default_rng(np.random.SeedSequence([int(seed), 0x5EEC]))
     segs, accents = _timeline(n_out / fs_out, rng)
     if not segs:
-        raise SignalValueError(f"duration_s = {duration_s} s is too short for speech; give at least 1 s.")
+        raise SignalValueError(
+            f"duration_s = {duration_s} s is too short for the first syllable of seed {seed}; give a longer duration."
+        )
     av, ah, fm_t, fm_v = _tracks(segs, n, fs, v, e)
     f0 = _pitch(n, fs, segs, accents, v.f0_hz * e.f0_factor, rng)
     pulses, open_gate = _glottal_source(f0, fs, e, rng)
