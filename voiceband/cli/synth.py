@@ -20,7 +20,7 @@ def synth(
     specs: Annotated[
         Optional[list[Path]],
         typer.Argument(
-            help="Spec files (TOML). Default: every *.toml in ./corpus_synthetic.", show_default=False
+            help="Spec files (TOML). Default: every *.toml in ./corpus_synthetic.", show_default=False, metavar="SPEC"
         ),
     ] = None,
     force: Annotated[bool, typer.Option("--force", help="Overwrite existing WAV files and the manifest.")] = False,

@@ -3,6 +3,7 @@
 * :func:`synthesize_speech` -- calibrated source–filter speech (ANSI S3.5-1997 Table 3
   spectrum, P.56 active level −26 dBFS), low/medium/high voices, four vocal efforts.
 * :mod:`.noise` -- white, pink, receiver hiss, mains hum, static crashes.
+* :mod:`.sweep` -- exponential sine sweep (Farina) with start/stop markers, and its inverse filter.
 * :mod:`.tones` -- Schroeder-phase multitone, SSB two-tone pair, reference tone, stepped tones.
 * :mod:`.corpus` -- the ``corpus_synthetic/`` spec files, manifest and regeneration.
 
@@ -11,6 +12,7 @@ Importing this package needs only numpy; scipy is imported inside the generators
 
 from .noise import mains_hum, pink_noise, receiver_hiss, static_crashes, white_noise
 from .speech import EFFORTS, VOICES, synthesize_speech
+from .sweep import SweepSignal, exponential_sweep, inverse_filter
 from .tones import (
     SteppedTones,
     TestSignal,
@@ -30,6 +32,9 @@ __all__ = [
     "receiver_hiss",
     "mains_hum",
     "static_crashes",
+    "SweepSignal",
+    "exponential_sweep",
+    "inverse_filter",
     "TestSignal",
     "SteppedTones",
     "multitone",
