@@ -9,7 +9,7 @@ import scipy.signal as ss
 from voiceband.errors import MeasurementError, SignalValueError
 from voiceband.response import measure_response
 from voiceband.response.metrics import passband_edges, passband_level_db, passband_ripple_db
-from voiceband.response.quality import check_recording, clipped_runs
+from voiceband.response.quality import check_recording
 from voiceband.response.stimulus import analyse_stimulus
 from voiceband.synth.sweep import exponential_sweep
 
@@ -78,19 +78,15 @@ def test_unrecognised_stimulus_and_bad_arrays(rng, sweep, good):
         measure_response(sweep, FS, good, FS, max_offset_hz=-1.0)
 
 
-def test_clipped_runs_ignores_clean_low_frequency_peaks():
+def test_clean_recordings_are_not_taken_for_clipped():
     # A 20 Hz sine at 48 kHz quantised to 16 bits repeats samples at its peaks, yet it is not
-    # clipped: the steps into those flat stretches are a fraction of one LSB.
+    # clipped; nor is a full-scale sweep.
     t = np.arange(48000) / 48000
-    clean = np.round(0.999 * np.sin(2 * np.pi * 20 * t) * 32767) / 32767
-    assert clipped_runs(clean) == 0
-    check_recording(clean)
-    hard = np.clip(1.5 * np.sin(2 * np.pi * 440 * t), -1.0, 1.0)
-    # two flat tops per cycle, 880 in all; a top whose neighbour sample lies just below the clip
-    # level (a small step in or out) is not counted, so ask for most of them
-    assert 600 <= clipped_runs(hard) <= 880
-    soft_level = np.clip(0.8 * np.sin(2 * np.pi * 440 * t), -0.5, 0.5)  # clipped below full scale
-    assert 600 <= clipped_runs(soft_level) <= 880
+    check_recording(np.round(0.999 * np.sin(2 * np.pi * 20 * t) * 32767) / 32767, 48000)
+    s = np.asarray(exponential_sweep(duration_s=2.0, sample_rate_hz=48000, level_dbfs=0.0).samples)
+    check_recording(np.round(s * 32767) / 32767, 48000)
+    with pytest.raises(MeasurementError, match=r"clipped \(\d+ flat tops at -6.0 dBFS\)"):
+        check_recording(np.clip(s, -0.5, 0.5), 48000)  # clipped below full scale, at 0.5 = −6.0 dBFS
 
 
 def test_stimulus_recognition_reads_back_the_sweep():

@@ -549,7 +549,7 @@ def measure_response(
         raise SignalValueError(f"max_offset_hz must be above 0 and at most 1000 Hz, got {max_offset_hz}.")
     if not 0.01 <= float(ir_window_s) <= 5.0:
         raise SignalValueError(f"ir_window_s must be 0.01–5 s, got {ir_window_s}.")
-    check_recording(recording)
+    check_recording(recording, fs_rec)
     ana = analyse_stimulus(x, fs)
     y1 = _align.resample_to_rate(np.asarray(recording, dtype=np.float64), fs_rec, fs)
     if y1.size < ana.span.length:
