@@ -570,7 +570,7 @@ def measure_clipping(x, sample_rate_hz: float, **options) -> ClippingResult:
     --------
     >>> import numpy as np
     >>> t = np.arange(48000) / 48000
-    >>> r = measure_clipping(np.clip(np.sin(2 * np.pi * 100 * t), -0.5, 0.5), 48000)
+    >>> r = measure_clipping(np.clip(np.sin(2 * np.pi * 997 * t), -0.5, 0.5), 48000)
     >>> round(r.clip_level, 3), round(r.clipped_fraction, 3)
     (0.5, 0.667)
     """
