@@ -124,7 +124,7 @@ def test_bad_inputs_exit_non_zero_with_one_sentence(files, tmp_path):
         "silent.wav": "silent",
         "noise.wav": "does not contain the stimulus",
         "clipped.wav": "clipped",
-        "short.wav": "shorter than the stimulus",
+        "short.wav": "shorter than the sweep",
         "notaudio.wav": "not an audio file",
         "missing.wav": "No such file",
     }

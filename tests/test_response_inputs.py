@@ -45,17 +45,32 @@ def _one_sentence(msg: str) -> bool:
          "does not contain the stimulus"),
         (lambda s, g, rng: np.clip(3.0 * g, -0.9, 0.9), "clipped"),
         (lambda s, g, rng: np.clip(3.0 * g, -1.0, 1.0), "clipped"),
-        (lambda s, g, rng: g[:FS], "shorter than the stimulus"),
-        (lambda s, g, rng: g[: g.size - 2 * FS], "shorter than the stimulus"),
+        (lambda s, g, rng: g[:FS], "shorter than the sweep"),
+        (lambda s, g, rng: g[: g.size - 2 * FS], "misses the end of the sweep"),
+        (lambda s, g, rng: np.r_[g[int(2.0 * FS):], np.zeros(2 * FS)], "misses the start of the sweep"),
         (lambda s, g, rng: ss.resample(g, int(g.size * 1.02)), "against the stimulus clock"),
     ],
     ids=["zeros", "below -90 dBFS", "noise", "speech-like noise", "reversed", "another sweep", "clipped below full scale",
-         "clipped at full scale", "too short", "ends early", "2 % clock"],
+         "clipped at full scale", "too short", "ends early", "starts late", "2 % clock"],
 )
 def test_bad_recordings_raise_one_sentence(make, match, sweep, good, rng):
     with pytest.raises(MeasurementError, match=match) as err:
         measure_response(sweep, FS, make(sweep, good, rng), FS)
     assert _one_sentence(str(err.value)), str(err.value)
+
+
+def test_markers_may_be_cut_off_but_the_sweep_must_be_whole(sweep, good):
+    # the recording starts after the start marker: measured, with a note that the clock was not
+    r = measure_response(sweep, FS, good[3000 + int(0.5 * FS):], FS)
+    assert not r.clock_ratio_measured and any("marker" in f for f in r.findings)
+    assert r.edges_hz.low_3db == pytest.approx(300.0, rel=0.02)  # scipy.signal.butter design edge
+
+
+def test_tone_recording_that_holds_only_part_of_the_tones(rng):
+    t = np.arange(3 * FS) / FS
+    tones = np.r_[np.zeros(FS // 4), 0.2 * (np.sin(2 * np.pi * 500 * t) + np.sin(2 * np.pi * 1500 * t)), np.zeros(FS // 4)]
+    with pytest.raises(MeasurementError, match="holds only"):
+        measure_response(tones, FS, np.r_[tones[FS:], np.zeros(2 * FS)], FS)
 
 
 def test_tone_stimulus_with_a_recording_of_something_else(rng):

@@ -97,7 +97,8 @@ def test_pilot_tone_offset_detected_within_1_hz(rng):
 
 def test_sweep_offset_detected_within_1_hz(rng):
     # A sweep confuses an offset with group delay that falls as 1/f (see voiceband.response.offset),
-    # so a chain with modest delay variation is used: a second-order 200–5000 Hz Butterworth.
+    # so a chain with modest delay variation is used: a 200–5000 Hz Butterworth band-pass from a
+    # first-order prototype.
     s = exponential_sweep(duration_s=4.0, sample_rate_hz=FS)
     sos = ss.butter(1, [200.0, 5000.0], "bandpass", fs=FS, output="sos")
     x = np.asarray(s.samples)

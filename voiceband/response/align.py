@@ -147,10 +147,17 @@ def envelope_match(stimulus: np.ndarray, recording: np.ndarray, sample_rate_hz: 
     adds a constant per band (removed), and a frequency offset of tens of hertz barely
     moves energy between bands, so the match survives both.  Resolution: one hop (5 ms).
 
+    Positions where the stimulus runs off either end of the recording are considered
+    too: the coefficient is normalised by the whole stimulus, so a partial overlap
+    scores at most the square root of the share that overlaps.  The lag may therefore be
+    negative, or put the stimulus's end beyond the recording's; the caller checks that
+    what it needs lies inside.  Pass a stimulus without silent stretches (the sweep, not
+    the file with its markers): silences would dominate the log envelopes.
+
     Raises
     ------
     MeasurementError
-        The recording is shorter than the stimulus.
+        The stimulus or the recording is shorter than one analysis frame.
     """
     fs = int(sample_rate_hz)
     frame_len = int(2 ** np.ceil(np.log2(0.02 * fs)))
@@ -158,19 +165,21 @@ def envelope_match(stimulus: np.ndarray, recording: np.ndarray, sample_rate_hz: 
     s = _band_log_envelopes(stimulus, fs, frame_len, hop)
     r = _band_log_envelopes(recording, fs, frame_len, hop)
     ns, nr = s.shape[1], r.shape[1]
-    if ns == 0 or nr < ns:
+    if ns == 0 or nr == 0:
         raise MeasurementError(
-            f"The recording ({recording.size / fs:.2f} s) is shorter than the stimulus "
-            f"({stimulus.size / fs:.2f} s), so it cannot contain all of it."
+            f"The recording ({recording.size / fs:.3f} s) or the stimulus ({stimulus.size / fs:.3f} s) "
+            "is too short to measure."
         )
-    n = int(2 ** np.ceil(np.log2(ns + nr)))
-    c = np.fft.irfft(np.sum(np.fft.rfft(r, n, axis=1) * np.conj(np.fft.rfft(s, n, axis=1)), axis=0), n)
-    c = c[: nr - ns + 1]
-    e2 = np.concatenate(([0.0], np.cumsum(np.sum(r * r, axis=0))))
-    win = np.sqrt(np.maximum(e2[ns:] - e2[: nr - ns + 1], 1e-30))
+    pad = ns - 1
+    rp = np.pad(r, ((0, 0), (pad, pad)))  # 0 is each band's mean level: adds nothing to the sums
+    nl = nr + pad  # lags in frames, from −pad to nr − 1
+    n = int(2 ** np.ceil(np.log2(ns + rp.shape[1])))
+    c = np.fft.irfft(np.sum(np.fft.rfft(rp, n, axis=1) * np.conj(np.fft.rfft(s, n, axis=1)), axis=0), n)[:nl]
+    e2 = np.concatenate(([0.0], np.cumsum(np.sum(rp * rp, axis=0))))
+    win = np.sqrt(np.maximum(e2[ns:ns + nl] - e2[:nl], 1e-30))
     rho = c / (np.sqrt(np.sum(s * s)) * win)
     m = int(np.argmax(rho))
-    return Match(lag=float(m * hop), coefficient=float(max(rho[m], 0.0)))
+    return Match(lag=float((m - pad) * hop), coefficient=float(max(rho[m], 0.0)))
 
 
 def energy_match(stimulus: np.ndarray, recording: np.ndarray, sample_rate_hz: int) -> Match:

@@ -31,7 +31,7 @@ from .deconvolve import (
 from .metrics import PassbandEdges, passband_edges, passband_level_db, passband_ripple_db
 from .offset import DEFAULT_MAX_OFFSET_HZ, shift_frequency, sweep_offset, tone_offset, tone_transfer, track_tones
 from .quality import check_recording
-from .stimulus import StimulusAnalysis, analyse_stimulus
+from .stimulus import StimulusAnalysis, active_segments, analyse_stimulus
 from ._framing import log_grid_hz
 
 __all__ = [
@@ -201,15 +201,32 @@ def _quiet_stretch(z: np.ndarray, origin: int, ana: StimulusAnalysis, fs: int) -
     return None if best is None else z[best[0]:best[1]]
 
 
-def _find_stimulus(x: np.ndarray, y: np.ndarray, ana: StimulusAnalysis, fs: int) -> _align.Match:
-    """Coarse match of the stimulus's active span; the lag returned is that of stimulus sample 0."""
-    m = _align.envelope_match(x[ana.span.start:ana.span.stop], y, fs)
+def _find_sweep(x: np.ndarray, y: np.ndarray, ana: StimulusAnalysis, fs: int) -> _align.Match:
+    """Coarse match of the sweep; the lag returned is that of stimulus sample 0.
+
+    The markers are left out of the match (they may be cut off in the recording), but the
+    sweep itself must lie wholly inside the recording.
+    """
+    seg = ana.sweep.segment
+    if y.size < seg.length:
+        raise MeasurementError(
+            f"The recording ({y.size / fs:.2f} s) is shorter than the sweep in the stimulus "
+            f"({seg.length / fs:.2f} s), so it cannot contain all of it."
+        )
+    m = _align.envelope_match(x[seg.start:seg.stop], y, fs)
     if m.coefficient < MIN_ENVELOPE_MATCH:
         raise MeasurementError(
             f"The recording does not contain the stimulus (best envelope match {m.coefficient:.2f}, "
             f"at least {MIN_ENVELOPE_MATCH:g} needed)."
         )
-    return _align.Match(lag=m.lag - ana.span.start, coefficient=m.coefficient)
+    tol = 0.005 * fs  # one envelope hop
+    if m.lag < -tol:
+        raise MeasurementError(f"The recording misses the start of the sweep: it begins {-m.lag / fs:.2f} s too late.")
+    if m.lag + seg.length > y.size + tol:
+        raise MeasurementError(
+            f"The recording misses the end of the sweep: it stops {(m.lag + seg.length - y.size) / fs:.2f} s too early."
+        )
+    return _align.Match(lag=m.lag - seg.start, coefficient=m.coefficient)
 
 
 def _summarise(freqs: np.ndarray, mag_raw_db: np.ndarray) -> tuple[np.ndarray, float, float, PassbandEdges, float | None]:
@@ -249,25 +266,37 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     corrected = False
     for _ in range(4):
         y2 = shift_frequency(y1, -shift_hz / ratio, fs) if corrected else y1
-        coarse = _find_stimulus(x, y2, ana, fs)
+        coarse = _find_sweep(x, y2, ana, fs)
         al = _align.align_to_anchors(x, y2, fs, anchors=anchors, coarse=coarse)
         ratio = al.clock_ratio
         z = _align.correct_clock(y2, ratio)
         origin = int(round(al.delay_samples / ratio))
         zs = _take(z, origin + xs_start, xs.size)
-        est = sweep_offset(xs, zs, fs, band_hz=band)
+        try:
+            est = sweep_offset(xs, zs, fs, band_hz=band)
+        except MeasurementError:
+            # Too little of the sweep in the passband to read its frequency track: the
+            # response can still be measured, the offset cannot.
+            findings.append("Too little of the sweep lies in the passband to check for a carrier offset.")
+            break
         if not corrected:
             if abs(est.frequency_offset_hz) < max(SWEEP_OFFSET_RESOLUTION_HZ, 4.0 * est.stderr_hz):
                 break
             if abs(est.frequency_offset_hz) > max_offset_hz:
                 raise MeasurementError(
-                    f"The recorded sweep is shifted by {est.frequency_offset_hz:+.1f} Hz, more than the "
-                    f"±{max_offset_hz:g} Hz a carrier offset may have."
+                    f"The recording does not contain the stimulus sweep: its frequency track departs from the "
+                    f"stimulus's by {est.frequency_offset_hz:+.1f} Hz, more than the ±{max_offset_hz:g} Hz a carrier "
+                    "offset may have."
                 )
             corrected = True
         shift_hz += est.frequency_offset_hz
         if corrected and abs(est.frequency_offset_hz) < 0.05:
             break
+    if len(anchors) >= 2 and al.anchors_used < 2:
+        findings.append(
+            "Only one of the sweep's markers was found in the recording, so the clock ratio was not "
+            "measured (1.0 assumed)."
+        )
     if corrected:
         findings.append(
             f"Carrier offset of {shift_hz:+.1f} Hz detected from the sweep's frequency track and removed "
@@ -412,6 +441,14 @@ def _measure_tones(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     findings: list[str] = []
     found = _align.energy_match(x[span.start:span.stop], y1, fs)
     coarse = _align.Match(lag=found.lag - span.start, coefficient=found.coefficient)
+    # Steady tones give no landmark inside them, so a recording that caught only part of
+    # them shows as a recorded burst shorter than the stimulus.
+    rec_segs = active_segments(y1, fs)
+    if rec_segs and rec_segs[-1].stop - rec_segs[0].start < 0.9 * span.length:
+        raise MeasurementError(
+            f"The recording holds only {(rec_segs[-1].stop - rec_segs[0].start) / fs:.2f} s of signal against "
+            f"{span.length / fs:.2f} s of tones in the stimulus; record the whole stimulus."
+        )
     margin = int(0.1 * fs)
     excerpt = _take(y1, int(round(coarse.lag)) + span.start - margin, span.length + 2 * margin)
     off = tone_offset(excerpt, fs, tones, max_offset_hz=max_offset_hz)
@@ -552,11 +589,6 @@ def measure_response(
     check_recording(recording, fs_rec)
     ana = analyse_stimulus(x, fs)
     y1 = _align.resample_to_rate(np.asarray(recording, dtype=np.float64), fs_rec, fs)
-    if y1.size < ana.span.length:
-        raise MeasurementError(
-            f"The recording ({y1.size / fs:.2f} s) is shorter than the stimulus "
-            f"({ana.span.length / fs:.2f} s of signal), so it cannot contain all of it."
-        )
     if ana.kind == "sweep":
         return _measure_sweep(x, fs, y1, fs_rec, ana, float(max_offset_hz), float(ir_window_s))
     return _measure_tones(x, fs, y1, fs_rec, ana, float(max_offset_hz))
