@@ -147,7 +147,11 @@ def test_bode_figure_draws_magnitude_and_phase(files):
     x, fs = sf.read(str(files / "sweep.wav"))
     y, fr = sf.read(str(files / "rec.wav"))
     r = measure_response(x, fs, y, fr)
+    import matplotlib
+
+    before = dict(matplotlib.rcParams)
     fig = bode_figure(r)
+    assert dict(matplotlib.rcParams) == before  # a style context, no global rcParams changes
     assert isinstance(fig, Figure) and len(fig.axes) == 2
     mag_ax, ph_ax = fig.axes
     assert mag_ax.get_xscale() == "log" and ph_ax.get_xscale() == "log"

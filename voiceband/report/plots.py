@@ -67,6 +67,15 @@ def _edge_lines(ax: Any, edges: Any, *, label: bool) -> None:
         ax.axvline(v, color=colour, linestyle=style, linewidth=0.9, label=(f"{text} edges" if label and text else None))
 
 
+def _log_ticks(ax: Any, fmt: Any, minor_fmt: Any, narrow: bool) -> None:
+    from matplotlib.ticker import LogLocator
+
+    ax.xaxis.set_major_formatter(fmt)
+    if narrow:
+        ax.xaxis.set_minor_locator(LogLocator(base=10.0, subs=(2.0, 3.0, 5.0)))
+    ax.xaxis.set_minor_formatter(minor_fmt)
+
+
 def _wrapped(phase_deg: np.ndarray) -> np.ndarray:
     """Phase with NaN inserted at wraps so the line does not jump across the axis."""
     p = np.asarray(phase_deg, dtype=np.float64).copy()
@@ -91,7 +100,7 @@ def bode_figure(result: Any, ax: Any = None) -> Any:
     """
     import matplotlib.style
     from matplotlib.figure import Figure
-    from matplotlib.ticker import FuncFormatter
+    from matplotlib.ticker import FuncFormatter, NullFormatter
 
     f = np.asarray(result.frequencies_hz, dtype=np.float64)
     mag = np.asarray(result.magnitude_db, dtype=np.float64)
@@ -108,6 +117,9 @@ def bode_figure(result: Any, ax: Any = None) -> Any:
             ax_mag, ax_ph = ax, None
             fig = ax.figure
         fmt = FuncFormatter(_hz_label)
+        narrow = f.size > 0 and f.max() / f.min() < 30.0  # under 1.5 decades: label 2, 3, 5 × 10^k too
+        minor_fmt = fmt if narrow else NullFormatter()
+        lim = (f.min() / 1.05, f.max() * 1.05) if f.size else (10.0, 10000.0)
         style = dict(color=_LINE, marker="o" if tones else None, markersize=3.5)
         ax_mag.semilogx(f, mag, **style)
         ax_mag.axhline(-3.0, color=_EDGE_3, linewidth=0.6, alpha=0.5)
@@ -123,7 +135,8 @@ def bode_figure(result: Any, ax: Any = None) -> Any:
             f", carrier offset {result.frequency_offset_hz:+.1f} Hz" if result.frequency_offset_corrected else ""
         )
         ax_mag.set_title(f"Frequency response ({'tones' if tones else 'sweep'}; {span3}{offset})", loc="left")
-        ax_mag.xaxis.set_major_formatter(fmt)
+        _log_ticks(ax_mag, fmt, minor_fmt, narrow)
+        ax_mag.set_xlim(*lim)
         if any(getattr(e, n) is not None for n in ("low_3db", "high_3db", "low_10db", "high_10db")):
             ax_mag.legend(loc="lower center")
         if ax_ph is not None:
@@ -133,14 +146,14 @@ def bode_figure(result: Any, ax: Any = None) -> Any:
                 ax_ph.set_yticks([-180, -90, 0, 90, 180])
             else:
                 ax_ph.set_xscale("log")
-                ax_ph.set_xlim(f.min() if f.size else 10.0, f.max() if f.size else 10000.0)
                 ax_ph.set_yticks([])
                 ax_ph.text(0.5, 0.5, "phase not measurable (carrier offset: the carrier phase is unknown)",
                            transform=ax_ph.transAxes, ha="center", va="center", color="#606060")
             _edge_lines(ax_ph, result.edges_hz, label=False)
             ax_ph.set_ylabel(f"Phase (°, time zero {result.delay_s:.4f} s)")
             ax_ph.set_xlabel("Frequency (Hz)")
-            ax_ph.xaxis.set_major_formatter(fmt)
+            _log_ticks(ax_ph, fmt, minor_fmt, narrow)
+            ax_ph.set_xlim(*lim)
         else:
             ax_mag.set_xlabel("Frequency (Hz)")
     return fig
