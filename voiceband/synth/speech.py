@@ -168,6 +168,9 @@ VOICES = {
     "high": Voice(f0_hz=220.0, formant_scale=1.17),
 }
 
+#: Vocal efforts.  The source settings were chosen so the raw spectrum flattens with effort
+#: towards the ANSI S3.5-1997 Table 3 raised/loud/shout spectra (the calibration
+#: equaliser does the rest); the F0 and F1 factors are from memory (see :class:`Effort`).
 EFFORTS = {
     "normal": Effort(f0_factor=1.0, open_phase=0.42, closing_phase=0.16, tilt_corner_hz=2500.0, f1_factor=1.0, consonant_db=0.0),
     "raised": Effort(f0_factor=1.12, open_phase=0.40, closing_phase=0.13, tilt_corner_hz=3500.0, f1_factor=1.05, consonant_db=-1.0),
@@ -183,9 +186,10 @@ def _check_choice(value: str, table: dict, name: str) -> None:
 
 # --------------------------------------------------------------------------- phonemes
 
-# Formant targets F1..F6 and bandwidths B1..B5 (Hz) for an adult male tract.  Vowel F1–F3
-# are the Peterson & Barney (1952) male means (from memory); F4, F5 and the bandwidths are
-# typical cascade-synthesiser values (common practice).
+# Per phone: formant targets F1–F6 and bandwidths B1–B5 (Hz) for an adult male tract
+# (F7–F10 and B6–B10 are shared, below).  Vowel F1–F3 are the Peterson & Barney (1952) male
+# means (from memory); F4–F6 and the bandwidths are typical cascade-synthesiser values
+# (common practice).
 _B_VOWEL = (70.0, 90.0, 140.0, 200.0, 260.0)
 # Every phone shares F4–F6 = 3300, 3850, 4900 Hz (before voice scaling).  A cascade of
 # all-pole resonators falls by 12 dB/octave per pole above its last pole, whereas a real
@@ -211,7 +215,7 @@ _LOCUS = {
 class _Phone:
     kind: str               # vowel, nasal, approximant, fricative, plosive, aspirate
     formants: tuple         # F1..F6 (Hz, adult male)
-    bandwidths: tuple       # B1..B5 (Hz)
+    bandwidths: tuple       # B1..B5 (Hz; B6..B10 are shared)
     voicing: float          # voicing amplitude target (linear, vowel = 1)
     noise_band_hz: tuple = ()   # frication / burst band-pass edges (Hz, adult male)
     noise_db: float = 0.0       # frication / burst level (dB re /s/)
