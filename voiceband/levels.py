@@ -163,6 +163,50 @@ def _db_amplitude(x: float) -> float:
     return 20.0 * math.log10(x) if x > 0.0 else -math.inf
 
 
+def _one_pole(u: np.ndarray, g: float, y_prev: float) -> np.ndarray:
+    """First-order smoother ``y[n] = g·y[n-1] + (1-g)·u[n]`` starting from ``y_prev``, exactly.
+
+    Vectorised with the geometric identity ``y[k] = g^k·(y_prev + (1-g)·Σ_{j<=k} u[j]·g^-j)``, in
+    chunks short enough that ``g^-k`` stays far from overflow; the rounding error stays of the order
+    of ``eps·k`` relative to the output because each partial sum holds only past terms. Numpy only,
+    so the analyze path does not pay for importing ``scipy.signal``.
+    """
+    u = np.asarray(u, dtype=np.float64)
+    out = np.empty_like(u)
+    if u.size == 0:
+        return out
+    decay = -math.log(g) if g > 0 else 700.0
+    chunk = max(1, int(600.0 / max(decay, 1e-12)))
+    for start in range(0, u.size, chunk):
+        seg = u[start:start + chunk]
+        k = np.arange(1, seg.size + 1, dtype=np.float64)
+        gk = np.exp(-decay * k)
+        acc = np.cumsum(seg / gk)
+        acc *= 1.0 - g
+        acc += y_prev
+        acc *= gk
+        out[start:start + seg.size] = acc
+        y_prev = float(acc[-1])
+    return out
+
+
+def _sliding_max(a: np.ndarray, width: int) -> np.ndarray:
+    """``out[j] = max(a[j : j + width])`` for ``j = 0 … len(a) - width`` (van Herk / Gil–Werman, numpy only)."""
+    n = a.size
+    m = n - width + 1
+    if m <= 0:
+        return np.empty(0, dtype=a.dtype)
+    if width == 1:
+        return a.copy()
+    nb = -(-n // width)
+    pad = np.full(nb * width, -np.inf, dtype=a.dtype)
+    pad[:n] = a
+    blocks = pad.reshape(nb, width)
+    prefix = np.maximum.accumulate(blocks, axis=1).ravel()
+    suffix = np.maximum.accumulate(blocks[:, ::-1], axis=1)[:, ::-1].ravel()
+    return np.maximum(suffix[:m], prefix[width - 1:width - 1 + m])
+
+
 @dataclass(frozen=True)
 class LevelsResult:
     """Levels of one recording.
@@ -273,7 +317,7 @@ class LevelsAccumulator:
         self._dec = max(1, int(round(fs / _ENVELOPE_RATE_HZ)))
         g = math.exp(-1.0 / (P56_TIME_CONSTANT_S * fs))
         self._g_dec = g ** self._dec
-        self._env_zi = np.zeros(2)  # lfilter state of the two cascaded smoothers
+        self._env_zi = np.zeros(2)  # last outputs of the two cascaded one-pole smoothers
         self._grp_sum = 0.0  # |x| sum of the incomplete group
         self._grp_len = 0
         self._hang = max(0, int(round(P56_HANGOVER_S * fs / self._dec)))  # hangover, envelope steps
@@ -449,19 +493,17 @@ class LevelsAccumulator:
         Returns the histogram increment; the smoother and hangover state are
         stored only with ``commit=True``.
         """
-        from scipy.signal import lfilter
-
         gd = self._g_dec if weight == self._dec else math.exp(-weight / (P56_TIME_CONSTANT_S * self._fs))
-        q, zf = lfilter([(1.0 - gd) ** 2], [1.0, -2.0 * gd, gd * gd], u, zi=self._env_zi)
-        q = q.astype(np.float32)
+        y1 = _one_pole(u, gd, float(self._env_zi[0]))
+        q64 = _one_pole(y1, gd, float(self._env_zi[1]))
+        zf = np.array([y1[-1], q64[-1]]) if u.size else self._env_zi
+        q = q64.astype(np.float32)
         tail = self._env_tail
         if self._hang:
-            from scipy.ndimage import maximum_filter1d
-
             ext = np.concatenate((tail, q))
-            size = self._hang + 1
-            # trailing window: mx[i] = max(q[i - hang] ... q[i])
-            mx = maximum_filter1d(ext, size, origin=(size - 1) // 2, mode="constant", cval=0.0)[tail.size:]
+            # trailing window: mx[i] = max(q[i - hang] ... q[i]); before the first sample the envelope is 0
+            lead = np.zeros(max(0, self._hang - tail.size), dtype=np.float32)
+            mx = _sliding_max(np.concatenate((lead, ext)), self._hang + 1)
             new_tail = ext[-self._hang:]
         else:
             mx = q
