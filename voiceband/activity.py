@@ -605,9 +605,9 @@ class HumAccumulator:
         self.decimation = k
         self.low_rate_hz = fs / k
         m = _HUM_TAPS_PER_PHASE
-        from scipy.signal import firwin
+        from .lowpass import kaiser_lowpass
 
-        h = firwin(m * k, self.low_rate_hz / 2.0, window=("kaiser", 7.0), fs=fs)
+        h = kaiser_lowpass(m * k, self.low_rate_hz / 2.0, fs, beta=7.0)
         # Polyphase branches: output y[j] = sum_i R[j + i] . g_i, with R the rows of k samples
         # and g_i the i-th k-tap segment of the time-reversed filter.
         self._g = [np.ascontiguousarray(seg) for seg in h[::-1].astype(np.float32).reshape(m, k)]

@@ -292,9 +292,9 @@ class VoiceReservoir:
         q = max(1, int(fs // _F0_RATE_HZ))
         chunks = self._store[slots].astype(np.float64)
         if q > 1:
-            from scipy.signal import resample_poly
+            from .lowpass import decimate_rows
 
-            chunks = resample_poly(chunks, 1, q, axis=1)
+            chunks = decimate_rows(chunks, q)
         rate = fs / q
         f0s, levels = [], []
         for ch in chunks:
