@@ -49,6 +49,10 @@ class _AtomicPath:
         parent.mkdir(parents=True, exist_ok=True)
         fd, tmp = tempfile.mkstemp(prefix="." + self.path.name + ".", suffix=".part" + self.path.suffix, dir=parent)
         os.close(fd)
+        # mkstemp creates 0600; give the file the permissions a plain open() would (0666 less umask)
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)
         self.tmp = Path(tmp)
         return self.tmp
 
