@@ -1,19 +1,32 @@
 """voiceband: measure and model the transmit audio of voice radio.
 
-Public API (importing this package loads neither matplotlib nor librosa):
+Public API. Importing this package loads neither matplotlib nor librosa; the
+measurement, intelligibility, synthesis and response names below are loaded on
+first use (PEP 562 module ``__getattr__``), so the command line starts quickly.
 
-- :func:`analyze_file`, :func:`analyze_signal` -> :class:`AnalysisResult`
-- :mod:`voiceband.audio` reading/writing; :mod:`voiceband.levels`, :mod:`voiceband.clipping`,
-  :mod:`voiceband.activity`, :mod:`voiceband.spectrum`, :mod:`voiceband.bandwidth`,
-  :mod:`voiceband.voice` measurements; :mod:`voiceband.intelligibility` (SII, STOI);
-  :mod:`voiceband.synth` synthetic speech and test signals; :mod:`voiceband.response`.
+Recordings
+    :func:`analyze_file`, :func:`analyze_signal` -> :class:`AnalysisResult`;
+    :func:`read_audio`, :func:`audio_info`, :func:`write_audio`.
+Measurements (streaming accumulators and one-shot functions)
+    :func:`measure_levels`, :func:`measure_clipping`, :func:`analyze_spectrum`,
+    :func:`occupied_bandwidth`, :func:`passband_edges`, :func:`detect_hum`, :func:`measure_voice`.
+Intelligibility (ANSI S3.5-1997, Taal et al. 2011)
+    :func:`sii`, :func:`band_gains_db`, :func:`channel_sii`, :func:`sii_vs_channel_snr`,
+    :func:`recording_intelligibility`, :func:`standard_speech_spectrum`, :func:`stoi`.
+Synthesis and test signals
+    :func:`synthesize_speech`, :func:`exponential_sweep`, :func:`multitone`, :func:`two_tone`,
+    :func:`reference_tone`, :func:`stepped_tones`, noise generators.
+Chain response
+    :func:`measure_response` -> ``ResponseResult``.
 """
 
 from __future__ import annotations
 
+import importlib
+from typing import Any
+
 __version__ = "0.1.0"
 
-from .analysis import analyze_file, analyze_signal
 from .errors import (
     AudioFormatError,
     AudioInputError,
@@ -25,10 +38,48 @@ from .errors import (
 )
 from .results import AnalysisResult, Finding
 
+# public name -> (module, attribute), imported on first access
+_LAZY = {
+    "analyze_file": ("voiceband.analysis", "analyze_file"),
+    "analyze_signal": ("voiceband.analysis", "analyze_signal"),
+    "read_audio": ("voiceband.audio", "read"),
+    "audio_info": ("voiceband.audio", "info"),
+    "write_audio": ("voiceband.audio", "write"),
+    "measure_levels": ("voiceband.levels", "measure_levels"),
+    "LevelsAccumulator": ("voiceband.levels", "LevelsAccumulator"),
+    "measure_clipping": ("voiceband.clipping", "measure_clipping"),
+    "ClippingAccumulator": ("voiceband.clipping", "ClippingAccumulator"),
+    "analyze_spectrum": ("voiceband.spectrum", "analyze_spectrum"),
+    "SpectralAccumulator": ("voiceband.spectrum", "SpectralAccumulator"),
+    "third_octave_bands": ("voiceband.spectrum", "third_octave_bands"),
+    "occupied_bandwidth": ("voiceband.bandwidth", "occupied_bandwidth"),
+    "passband_edges": ("voiceband.bandwidth", "passband_edges"),
+    "detect_hum": ("voiceband.activity", "detect_hum"),
+    "measure_activity": ("voiceband.activity", "measure_activity"),
+    "measure_voice": ("voiceband.voice", "measure_voice"),
+    "sii": ("voiceband.intelligibility", "sii"),
+    "band_gains_db": ("voiceband.intelligibility", "band_gains_db"),
+    "channel_sii": ("voiceband.intelligibility", "channel_sii"),
+    "sii_vs_channel_snr": ("voiceband.intelligibility", "sii_vs_channel_snr"),
+    "recording_intelligibility": ("voiceband.intelligibility", "recording_intelligibility"),
+    "standard_speech_spectrum": ("voiceband.intelligibility", "standard_speech_spectrum"),
+    "stoi": ("voiceband.intelligibility", "stoi"),
+    "synthesize_speech": ("voiceband.synth", "synthesize_speech"),
+    "exponential_sweep": ("voiceband.synth", "exponential_sweep"),
+    "multitone": ("voiceband.synth", "multitone"),
+    "two_tone": ("voiceband.synth", "two_tone"),
+    "reference_tone": ("voiceband.synth", "reference_tone"),
+    "stepped_tones": ("voiceband.synth", "stepped_tones"),
+    "white_noise": ("voiceband.synth", "white_noise"),
+    "pink_noise": ("voiceband.synth", "pink_noise"),
+    "receiver_hiss": ("voiceband.synth", "receiver_hiss"),
+    "mains_hum": ("voiceband.synth", "mains_hum"),
+    "static_crashes": ("voiceband.synth", "static_crashes"),
+    "measure_response": ("voiceband.response", "measure_response"),
+}
+
 __all__ = [
     "__version__",
-    "analyze_file",
-    "analyze_signal",
     "AnalysisResult",
     "Finding",
     "VoicebandError",
@@ -38,4 +89,19 @@ __all__ = [
     "ChainFileError",
     "OutputExistsError",
     "MeasurementError",
+    *_LAZY,
 ]
+
+
+def __getattr__(name: str) -> Any:
+    try:
+        module, attr = _LAZY[name]
+    except KeyError:
+        raise AttributeError(f"module 'voiceband' has no attribute {name!r}") from None
+    value = getattr(importlib.import_module(module), attr)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_LAZY))
