@@ -197,6 +197,8 @@ def _combine(info: InputInfo, pipe: _Pipeline) -> AnalysisResult:
         method=(f"measured speech spectrum minus the {e.reference} reference speech spectrum, "
                 f"{e.drop_db:g} dB below the passband level" if e is not None else
                 "not estimated (no speech spectrum with pauses found)"),
+        lowest_band_hz=_finite(e.lowest_band_hz) if e is not None else None,
+        highest_band_hz=_finite(e.highest_band_hz) if e is not None else None,
     )
     ob = sp.occupied_bandwidth
     obw = OccupiedBandwidthRecord(

@@ -113,7 +113,7 @@ def findings_for(
             f"The audio rolls off at {e.high:.0f} Hz; speech importance is high from 2 to 4 kHz (ANSI S3.5-1997 Table 3), so consonants suffer.")
     if e.low is not None and e.low > T["edge_low_high_hz"]:
         add("lower_edge_high", "info", f"The audio starts at {e.low:.0f} Hz; voices will sound thin.")
-    if e.low is None or e.high is None:
+    if e.low is None and e.high is None:
         add("edges_unknown", "info", "The passband edges could not be estimated from this recording's spectrum.")
     if voice.f0_median_hz is None:
         add("f0_unknown", "info", "No voiced speech was found, so the talker's fundamental frequency is not measurable.")

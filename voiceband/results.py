@@ -92,6 +92,8 @@ class EdgesRecord:
     high: Optional[float]
     criterion_db: float = -10.0
     method: str = ""
+    lowest_band_hz: Optional[float] = None
+    highest_band_hz: Optional[float] = None
 
 
 @dataclass(frozen=True)

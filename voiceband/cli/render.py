@@ -22,37 +22,44 @@ def rows(r: AnalysisResult) -> list[tuple[str, str, str, str]]:
     lv, cl, nz, sp, vo = r.levels, r.clipping, r.noise, r.spectrum, r.voice
     out: list[tuple[str, str, str, str]] = []
     add = lambda sec, q, v, n: out.append((sec, q, v, n))  # noqa: E731
-    add("Levels", "Sample peak", _f(lv.peak_dbfs, "dBFS", 2), "highest sample; 0 dBFS is digital full scale")
-    add("", "True peak", _f(lv.true_peak_dbtp, "dBTP", 2), "peak between samples (BS.1770, 4× oversampled); above 0 overloads a converter")
-    add("", "RMS", _f(lv.rms_dbfs, "dBFS"), "whole-file average power; a full-scale sine reads −3.0 dBFS")
-    add("", "Active speech level", _f(lv.active_level_dbfs, "dBFS"), "ITU-T P.56 level while talking; −26 dBFS is a common reference")
-    add("", "Activity factor", _f(None if lv.activity_factor is None else 100 * lv.activity_factor, "%", 0), "share of time counted as speech by P.56")
-    add("", "Crest factor", _f(lv.crest_factor_db, "dB"), "true peak above active level; unprocessed speech is often 15–20 dB")
-    add("", "DC offset", _f(None if lv.dc_offset is None else 100 * lv.dc_offset, "% FS", 3), "mean of the samples; should be near 0")
-    cnote = "no clipped runs found" if cl.event_count == 0 else (
-        f"clipped at {100 * cl.clip_level:.1f} % of full scale" if cl.clip_level is not None else "clipped runs found")
-    add("Clipping", "Clip events", str(cl.event_count), cnote)
-    add("", "Clipped samples", f"{cl.clipped_samples} ({100 * cl.clipped_fraction:.3f} %)", "samples sitting on the clip level")
-    add("Noise", "Noise floor", _f(nz.floor_dbfs, "dBFS"), "RMS level in the pauses between words")
-    add("", "SNR", _f(nz.snr_db, "dB"), "active speech level minus noise floor")
-    if nz.hum is None:
-        add("", "Mains hum", "none found", "no 50/60 Hz comb stands out of the pause noise")
+    add("Levels", "Sample peak", _f(lv.peak_dbfs, "dBFS", 2), "highest sample; 0 dBFS = full scale")
+    add("", "True peak", _f(lv.true_peak_dbtp, "dBTP", 2), "between samples (BS.1770, 4× oversampled)")
+    add("", "RMS", _f(lv.rms_dbfs, "dBFS"), "whole file; full-scale sine = −3.0 dBFS")
+    add("", "Active speech level", _f(lv.active_level_dbfs, "dBFS"), "ITU-T P.56, while talking")
+    add("", "Activity factor", _f(None if lv.activity_factor is None else 100 * lv.activity_factor, "%", 0), "share of time talking (P.56)")
+    add("", "Crest factor", _f(lv.crest_factor_db, "dB"), "true peak above active level")
+    add("", "DC offset", _f(None if lv.dc_offset is None else 100 * lv.dc_offset, "% FS", 3), "mean of the samples")
+    if cl.event_count == 0:
+        cnote = "no clipped runs found"
+    elif cl.clip_level is not None:
+        cnote = f"clip level {100 * cl.clip_level:.1f} % of full scale"
     else:
-        add("", "Mains hum", f"{nz.hum.fundamental_hz:.1f} Hz, {_f(nz.hum.level_db_re_speech, 'dB')} re speech",
-            "hum comb level relative to the active speech level")
+        cnote = "clipped runs found"
+    add("Clipping", "Clip events", str(cl.event_count), cnote)
+    add("", "Clipped samples", f"{cl.clipped_samples} ({100 * cl.clipped_fraction:.3f} %)", "samples on the clip level")
+    add("Noise", "Noise floor", _f(nz.floor_dbfs, "dBFS"), "RMS in the pauses between words")
+    add("", "SNR", _f(nz.snr_db, "dB"), "active speech level − noise floor")
+    if nz.hum is None:
+        add("", "Mains hum", "none", "no 50/60 Hz comb above the noise")
+    else:
+        add("", f"Mains hum ({nz.hum.fundamental_hz:.1f} Hz)", _f(nz.hum.level_db_re_speech, "dB"),
+            "hum level re active speech level")
     edges = sp.edges_hz
-    add("Spectrum", "Passband edges (−10 dB)", f"{_f(edges.low, 'Hz', 0)} – {_f(edges.high, 'Hz', 0)}",
-        "where the estimated chain response falls 10 dB below its passband")
+    low = _f(edges.low, "", 0) if edges.low is not None else (
+        f"<{edges.lowest_band_hz:g}" if edges.lowest_band_hz and edges.high is not None else "—")
+    high = _f(edges.high, "", 0) if edges.high is not None else (
+        f">{edges.highest_band_hz:g}" if edges.highest_band_hz and edges.low is not None else "—")
+    add("Spectrum", "Passband (−10 dB)", f"{low} – {high} Hz", "chain response estimated from the speech")
     ob = sp.occupied_bandwidth
     add("", f"Occupied bandwidth ({100 * ob.fraction:g} %)", _f(ob.width_hz, "Hz", 0),
-        f"{_f(ob.low_hz, 'Hz', 0)} – {_f(ob.high_hz, 'Hz', 0)}; ITU-R SM.328 β = {100 * (1 - ob.fraction):g} % method")
-    add("", "Spectral tilt", _f(sp.tilt_db_per_octave, "dB/oct"), sp.tilt_basis or "one-third-octave band levels vs log2 f")
+        f"{_f(ob.low_hz, '', 0)} – {_f(ob.high_hz, 'Hz', 0)} (ITU-R SM.328)")
+    add("", "Spectral tilt", _f(sp.tilt_db_per_octave, "dB/oct"), "one-third-octave band levels vs log2 f")
     add("Voice", "Fundamental (median)", _f(vo.f0_median_hz, "Hz", 0),
-        f"5–95 %: {_f(vo.f0_p5_hz, 'Hz', 0)} – {_f(vo.f0_p95_hz, 'Hz', 0)}; a high-pass well below this keeps the voice full")
+        f"5–95 %: {_f(vo.f0_p5_hz, '', 0)} – {_f(vo.f0_p95_hz, 'Hz', 0)}")
     it = r.intelligibility
     if it is not None:
-        add("Intelligibility", "SII (ANSI S3.5-1997)", _f(getattr(it, "sii", None), "", 3),
-            f"{getattr(it, 'rating', '') or ''} — one-third-octave procedure at {getattr(it, 'presentation_level_db_spl', 0):.1f} dB SPL".strip(" —"))
+        add("Intelligibility", "SII", _f(getattr(it, "sii", None), "", 3),
+            f"ANSI S3.5-1997, {getattr(it, 'rating', '') or 'not rated'}")
     return out
 
 
@@ -68,12 +75,13 @@ def print_analysis(r: AnalysisResult) -> None:
         f"{i.duration_s:.1f} s, {i.format}/{i.subtype}"
     )
     t = Table(show_header=True, header_style="bold", box=None, pad_edge=False)
-    t.add_column("")
-    t.add_column("Quantity")
-    t.add_column("Value", justify="right")
-    t.add_column("What it means", overflow="fold")
+    t.add_column("Quantity", no_wrap=True)
+    t.add_column("Value", justify="right", no_wrap=True)
+    t.add_column("What it means", overflow="fold", style="dim")
     for sec, q, v, n in rows(r):
-        t.add_row(f"[bold]{sec}[/bold]" if sec else "", q, v, n)
+        if sec:
+            t.add_row(f"[bold underline]{sec}[/bold underline]", "", "")
+        t.add_row("  " + q, v, n)
     console.print(t)
     if r.findings:
         console.print("[bold]Findings[/bold]")
