@@ -12,7 +12,11 @@ Two different questions about how wide a transmit audio signal is:
   spectrum minus a published reference long-term speech spectrum
   (:mod:`voiceband.reference_spectra`).  This is common practice when no test signal
   is available; its accuracy is limited by how far the talker's own spectrum departs from
-  the reference (a few dB per band between talkers).
+  the reference (a few dB per band between talkers).  Vocal effort changes the spectrum's
+  shape far more than that (ANSI S3.5-1997 Table 3), so with ``reference="auto"`` the
+  reference is the Table 3 spectrum at the effort fitted to the measured spectrum's shape
+  in its central bands (:func:`fit_vocal_effort`; this module's method, built on the
+  common-practice reference-LTASS comparison).
 
 Both work on arrays; neither reads files.
 """
@@ -25,13 +29,17 @@ from typing import Optional
 import numpy as np
 
 from .errors import MeasurementError
-from .reference_spectra import REFERENCE_SPECTRA, reference_band_levels_db
+from .reference_spectra import REFERENCE_SPECTRA, effort_band_levels_db, reference_band_levels_db
 
 __all__ = [
     "OccupiedBandwidth",
+    "EFFORT_FIT_SPAN_HZ",
+    "PASSBAND_LEVEL_SPAN_HZ",
     "PassbandEdges",
+    "VocalEffortFit",
     "bin_boundaries_hz",
     "cumulative_power",
+    "fit_vocal_effort",
     "occupied_bandwidth",
     "passband_edges",
 ]
@@ -72,18 +80,30 @@ class PassbandEdges:
         ``None`` when the response does not fall that far inside the analysed bands (the
         edge lies beyond ``lowest_band_hz`` / ``highest_band_hz``) or cannot be estimated.
     passband_level_db : float or None
-        Median of the smoothed response over its 6 best bands; dB re the reference
+        Median of the smoothed response over its 6 best bands centred 250-4000 Hz
+        (:data:`PASSBAND_LEVEL_SPAN_HZ`); dB re the reference
         spectrum, so only differences are meaningful.
     drop_db : float
         The edge criterion (10 dB by default).
     reference : str
-        Which reference speech spectrum was used (see :mod:`voiceband.reference_spectra`).
+        Which reference speech spectrum was used (see :mod:`voiceband.reference_spectra`):
+        a name from ``REFERENCE_SPECTRA``, or for ``reference="auto"`` the fitted ANSI
+        S3.5-1997 effort, e.g. ``"ansi_s3.5_loud (fitted)"`` or
+        ``"ansi_s3.5 60 % raised + 40 % loud effort (fitted)"``.
     bands_hz : tuple of float
         Nominal one-third-octave centres used (common to the measurement and the reference).
     response_db : tuple of float
         Smoothed estimated response at ``bands_hz``, dB re ``passband_level_db``.
     lowest_band_hz, highest_band_hz : float or None
         The ends of the analysed range; an edge outside it is reported as ``None``.
+    effort_index : float or None
+        With ``reference="auto"``: the fitted vocal effort, 0 (normal) ... 3 (shout) on the
+        ANSI S3.5-1997 Table 3 scale (:class:`VocalEffortFit`); otherwise ``None``.
+    effort_fit_rms_db : float or None
+        With ``reference="auto"``: RMS shape residual of that fit (dB); otherwise ``None``.
+    effort_fit_bands_hz : tuple of float
+        With ``reference="auto"``: nominal centres of the bands the effort was fitted on;
+        otherwise empty.
     """
 
     low_hz: Optional[float]
@@ -95,6 +115,9 @@ class PassbandEdges:
     response_db: tuple
     lowest_band_hz: Optional[float]
     highest_band_hz: Optional[float]
+    effort_index: Optional[float] = None
+    effort_fit_rms_db: Optional[float] = None
+    effort_fit_bands_hz: tuple = ()
 
 
 def _as_spectrum(psd, freqs_hz) -> tuple[np.ndarray, np.ndarray]:
@@ -251,8 +274,53 @@ def _interp_segment(x: np.ndarray, y: np.ndarray, i: int, target: float) -> floa
 
 #: Bands (two octaves' worth) whose median response is the passband level.
 _PASSBAND_BANDS = 6
+#: Band centres (Hz, inclusive) among which the passband level is taken and the edge search
+#: starts: the voice band that every voice transmit passband overlaps.  Noise that rides on
+#: the speech frames outside it (static crashes, hiss above 4 kHz, rumble) then cannot
+#: set the passband level.
+PASSBAND_LEVEL_SPAN_HZ = (250.0, 4000.0)
 #: Depth below the response maximum at which the estimated response is floored (dB).
 _FLOOR_DB = 30.0
+#: Nominal band centres (Hz, inclusive) over which ``reference="auto"`` fits the vocal effort:
+#: the middle of every voice passband, clear of the skirts of a 300-2700 Hz SSB filter (a
+#: 4th-order Butterworth band-pass 300-2700 Hz takes 1.7 dB off the 2500 Hz band of white
+#: noise, 0.15 dB off the 2000 Hz band).
+EFFORT_FIT_SPAN_HZ = (500.0, 2000.0)
+#: Fewest bands with speech above noise inside the fit span for an effort fit.
+_MIN_FIT_BANDS = 4
+#: Most effort fits made by ``reference="auto"`` (the first, then narrowed spans).
+_MAX_FIT_PASSES = 4
+#: Frequency ratios (an octave, else two thirds of one) by which a narrowed effort-fit span
+#: keeps clear of an estimated edge; a 4th-order Butterworth skirt, |H|^2 = 1/(1 + (fc/f)^8),
+#: takes 0.15 dB an octave inside its -10 dB point and 0.9 dB two thirds of an octave inside.
+_EDGE_CLEARANCES = (2.0, 2.0 ** (2.0 / 3.0))
+#: Reference used by ``reference="auto"`` when the effort cannot be fitted.
+_FALLBACK_REFERENCE = "byrne1994"
+
+
+@dataclass(frozen=True)
+class VocalEffortFit:
+    """The vocal effort whose standard speech spectrum best matches a measured spectrum's shape.
+
+    Attributes
+    ----------
+    effort_index : float
+        Position on the effort scale 0 (normal), 1 (raised), 2 (loud), 3 (shout) of ANSI
+        S3.5-1997 Table 3; between two integers the reference is interpolated in dB
+        (:func:`voiceband.reference_spectra.effort_band_levels_db`).
+    nearest_effort : str
+        The tabulated effort nearest ``effort_index``.
+    residual_rms_db : float
+        RMS of the measured-minus-reference band levels over ``bands_hz`` after removing
+        their mean (dB): how well the shape fits.
+    bands_hz : tuple of float
+        Nominal centres of the bands used for the fit.
+    """
+
+    effort_index: float
+    nearest_effort: str
+    residual_rms_db: float
+    bands_hz: tuple
 
 
 def _exact_centre_hz(nominal_hz: np.ndarray) -> np.ndarray:
@@ -261,66 +329,7 @@ def _exact_centre_hz(nominal_hz: np.ndarray) -> np.ndarray:
     return 1000.0 * 10.0 ** (x / 10.0)
 
 
-def passband_edges(
-    bands_hz,
-    speech_band_db,
-    *,
-    noise_band_db=None,
-    reference: str = "byrne1994",
-    drop_db: float = 10.0,
-) -> PassbandEdges:
-    """Estimate the passband edges of a transmit chain from a long-term speech spectrum.
-
-    Method (common practice when no test signal is available; see trade notes on
-    "response from a reference LTASS"):
-
-    1. Speech band power minus pause (noise) band power, where a noise spectrum is given,
-       so that the estimate describes the speech that got through rather than the noise
-       floor; a band where speech is not above the noise counts as far below the passband.
-    2. Estimated response per one-third-octave band = that level minus the reference
-       long-term speech spectrum level (:func:`voiceband.reference_spectra.reference_band_levels_db`),
-       over the bands both cover.
-    3. Response floored at 30 dB below its maximum (so a band with no speech left does not
-       drag its neighbours far below the criterion) and smoothed with a (1, 2, 1)/4 kernel
-       across adjacent bands.
-    4. Passband level = median of the smoothed response over its 6 best bands (two octaves'
-       worth: robust to a narrow peak, e.g. a talker's strong fundamental, and still inside
-       the flat part of any voice passband).
-    5. Starting from the maximum, the first band on each side below passband level minus
-       ``drop_db`` marks an edge; the crossing is interpolated linearly in log frequency
-       between exact band centres (IEC 61260-1 base-10).
-
-    Limits: a talker's long-term spectrum differs from the reference by a few dB per band,
-    which moves a 10 dB edge by roughly that amount divided by the chain's roll-off slope
-    (e.g. 3 dB on a 24 dB/octave skirt: an eighth of an octave).  Below the talker's lowest
-    fundamental frequency there is little speech energy whatever the chain, so a low edge
-    near the talker's F0 may be the talker's, not the chain's; likewise above the highest
-    analysed band nothing can be said.
-
-    Parameters
-    ----------
-    bands_hz : array_like
-        Nominal one-third-octave centres (Hz) of ``speech_band_db``.
-    speech_band_db : array_like
-        Band levels of the speech-active long-term spectrum (dB, e.g. dBFS).
-    noise_band_db : array_like or None, keyword-only
-        Band levels of the pause spectrum on the same bands, or ``None``.
-    reference : {"byrne1994", "ansi_s3.5"}, keyword-only
-        Reference long-term speech spectrum.
-    drop_db : float, keyword-only
-        Edge criterion: dB below the passband level.
-
-    Returns
-    -------
-    PassbandEdges
-        Edges are ``None`` when they cannot be determined (fewer than 5 bands with speech
-        above noise, or the response does not fall ``drop_db`` inside the analysed range).
-
-    Raises
-    ------
-    MeasurementError
-        Mismatched arrays, unknown reference, or ``drop_db`` not positive.
-    """
+def _check_bands(bands_hz, speech_band_db, noise_band_db):
     f = np.asarray(bands_hz, dtype=float)
     s = np.asarray(speech_band_db, dtype=float)
     if f.ndim != 1 or s.shape != f.shape:
@@ -332,45 +341,303 @@ def passband_edges(
         n = np.asarray(noise_band_db, dtype=float)
         if n.shape != f.shape:
             raise MeasurementError(f"noise_band_db must have the shape of bands_hz {f.shape}; got {n.shape}")
-    drop_db = float(drop_db)
-    if not drop_db > 0:
-        raise MeasurementError(f"drop_db must be positive; got {drop_db:g}")
-    if reference not in REFERENCE_SPECTRA:
-        raise MeasurementError(f"reference must be one of {', '.join(REFERENCE_SPECTRA)}; got {reference!r}")
-    ref_f, ref_db = reference_band_levels_db(reference)
+    return f, s, n
 
-    # Bands common to the measurement and the reference (nominal labels).
+
+def _speech_minus_noise_db(s: np.ndarray, n: Optional[np.ndarray]) -> np.ndarray:
+    # Band power of speech minus that of the pauses; -inf where speech is not above noise.
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        power = 10.0 ** (s / 10.0)
+        if n is not None:
+            npow = 10.0 ** (n / 10.0)
+            power = np.where(np.isfinite(npow), power - npow, power)
+        return np.where(power > 0, 10.0 * np.log10(np.where(power > 0, power, 1.0)), -np.inf)
+
+
+def _common_bands(f: np.ndarray, ref_f: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    # Indices of the bands common to the measurement and a reference (nominal labels).
     idx_meas, idx_ref = [], []
     for i, fc in enumerate(f):
         k = np.flatnonzero(np.isclose(ref_f, fc, rtol=1e-3))
         if k.size:
             idx_meas.append(i)
             idx_ref.append(int(k[0]))
-    empty = PassbandEdges(None, None, None, drop_db, reference, (), (), None, None)
-    if len(idx_meas) < 5:
-        return empty
-    im = np.array(idx_meas)
+    return np.array(idx_meas, dtype=int), np.array(idx_ref, dtype=int)
+
+
+def _fit_effort(f, level_db, span_hz) -> Optional[VocalEffortFit]:
+    from .intelligibility.tables import VOCAL_EFFORTS
+    from .reference_spectra import effort_band_levels_db
+
+    lo, hi = span_hz
+    refs = [effort_band_levels_db(e) for e in VOCAL_EFFORTS]
+    im, ir = _common_bands(f, refs[0][0])
+    if im.size == 0:
+        return None
+    fb = f[im]
+    use = (fb >= lo * (1 - 1e-3)) & (fb <= hi * (1 + 1e-3)) & np.isfinite(level_db[im])
+    if np.count_nonzero(use) < _MIN_FIT_BANDS:
+        return None
+    m = level_db[im][use]
+    r = np.array([ref_db[ir][use] for _, ref_db in refs])
+    best = None
+    # The reference is piecewise linear in the effort index, so its least-squares shape fit
+    # (mean removed) is a one-parameter linear regression on each segment [k, k + 1].
+    for k in range(len(VOCAL_EFFORTS) - 1):
+        y = m - r[k]
+        g = r[k + 1] - r[k]
+        y = y - y.mean()
+        g = g - g.mean()
+        gg = float(g @ g)
+        w = min(max(float(y @ g) / gg, 0.0), 1.0) if gg > 0 else 0.0
+        rms = float(np.sqrt(np.mean((y - w * g) ** 2)))
+        if best is None or rms < best[1] - 1e-12:
+            best = (k + w, rms)
+    x, rms = best
+    return VocalEffortFit(
+        effort_index=float(x),
+        nearest_effort=VOCAL_EFFORTS[int(round(x))],
+        residual_rms_db=rms,
+        bands_hz=tuple(float(v) for v in fb[use]),
+    )
+
+
+def fit_vocal_effort(
+    bands_hz,
+    speech_band_db,
+    *,
+    noise_band_db=None,
+    span_hz=EFFORT_FIT_SPAN_HZ,
+) -> Optional[VocalEffortFit]:
+    """Fit the vocal effort of a long-term speech spectrum by the shape of its central bands.
+
+    The measured band levels (speech minus pause power where a noise spectrum is given) are
+    compared with the ANSI S3.5-1997 Table 3 standard speech spectrum (band level = spectrum
+    level + Delta) at every effort on the continuous scale 0 (normal) ... 3 (shout),
+    interpolated linearly in dB between tabulated efforts; the effort minimising the RMS of
+    the difference after removing its mean (a least-squares fit of shape, not of level) over
+    the bands inside ``span_hz`` is returned.  The bands of 500-2000 Hz carry the effort's
+    tilt (trade notes 5.3: 500-4000 Hz tilt -8.6 / -8.0 / -7.1 / -5.5 dB/octave for
+    normal / raised / loud / shout) and lie inside any voice passband.
+
+    Limits: a chain whose response tilts across the fit span (pre-emphasis, a rising SSB
+    transmit response) is indistinguishable here from a change of vocal effort: 6 dB/octave
+    of pre-emphasis on normal speech fits as a shout or beyond (clipped to 3).  The
+    effort-interpolation is this module's choice; the standard tabulates four efforts.
+
+    Parameters
+    ----------
+    bands_hz : array_like
+        Nominal one-third-octave centres (Hz) of ``speech_band_db``.
+    speech_band_db : array_like
+        Band levels of the speech-active long-term spectrum (dB).
+    noise_band_db : array_like or None, keyword-only
+        Band levels of the pause spectrum on the same bands, or ``None``.
+    span_hz : (float, float), keyword-only
+        Lowest and highest nominal band centre (Hz, inclusive) used for the fit.
+
+    Returns
+    -------
+    VocalEffortFit or None
+        ``None`` when fewer than 4 bands inside ``span_hz`` have speech above noise.
+
+    Raises
+    ------
+    MeasurementError
+        Mismatched arrays or a bad ``span_hz``.
+
+    References
+    ----------
+    ANSI S3.5-1997, Table 3 (standard speech spectrum levels for normal, raised, loud and
+    shouted vocal effort).
+    """
+    f, s, n = _check_bands(bands_hz, speech_band_db, noise_band_db)
+    lo, hi = _check_span(span_hz)
+    return _fit_effort(f, _speech_minus_noise_db(s, n), (lo, hi))
+
+
+def _check_span(span_hz) -> tuple[float, float]:
+    try:
+        lo, hi = (float(v) for v in span_hz)
+    except (TypeError, ValueError):
+        raise MeasurementError(f"span_hz must be (low, high) in Hz; got {span_hz!r}") from None
+    if not (np.isfinite(lo) and np.isfinite(hi) and 0 < lo < hi):
+        raise MeasurementError(f"span_hz must be (low, high) with 0 < low < high; got {span_hz!r}")
+    return lo, hi
+
+
+def _effort_label(x: float) -> str:
+    # Human-readable name of a point on the effort scale, to 10 % steps.
+    from .intelligibility.tables import VOCAL_EFFORTS
+
+    k = min(int(np.floor(x)), len(VOCAL_EFFORTS) - 2)
+    w = np.floor((x - k) * 10.0 + 0.5) / 10.0
+    if w <= 0.0:
+        return f"ansi_s3.5_{VOCAL_EFFORTS[k]} (fitted)"
+    if w >= 1.0:
+        return f"ansi_s3.5_{VOCAL_EFFORTS[k + 1]} (fitted)"
+    return (
+        f"ansi_s3.5 {100 * (1 - w):.0f} % {VOCAL_EFFORTS[k]} + {100 * w:.0f} % {VOCAL_EFFORTS[k + 1]} effort (fitted)"
+    )
+
+
+def passband_edges(
+    bands_hz,
+    speech_band_db,
+    *,
+    noise_band_db=None,
+    reference: str = "byrne1994",
+    drop_db: float = 10.0,
+    effort_fit_span_hz=EFFORT_FIT_SPAN_HZ,
+) -> PassbandEdges:
+    """Estimate the passband edges of a transmit chain from a long-term speech spectrum.
+
+    Method (common practice when no test signal is available; see trade notes on
+    "response from a reference LTASS"):
+
+    1. Speech band power minus pause (noise) band power, where a noise spectrum is given,
+       so that the estimate describes the speech that got through rather than the noise
+       floor; a band where speech is not above the noise counts as far below the passband.
+    2. Estimated response per one-third-octave band = that level minus the reference
+       long-term speech spectrum level (:func:`voiceband.reference_spectra.reference_band_levels_db`),
+       over the bands both cover.  With ``reference="auto"`` the reference is the ANSI
+       S3.5-1997 Table 3 spectrum (extended to 63 Hz - 16 kHz,
+       :func:`voiceband.reference_spectra.effort_band_levels_db`) at the vocal effort that
+       best fits the shape of the measured spectrum over ``effort_fit_span_hz``
+       (:func:`fit_vocal_effort`); louder speech is much flatter (Table 3: relative to
+       its 1-2 kHz bands, loud speech lies 10.5 dB and shouted speech 19 dB lower at 250 Hz
+       than normal speech), so a normal-effort reference makes a loud talker look
+       high-passed.  Where no effort can be
+       fitted (fewer than 4 bands with speech in the span) it falls back to ``"byrne1994"``.
+    3. Response floored at 30 dB below its maximum (so a band with no speech left does not
+       drag its neighbours far below the criterion) and smoothed with a (1, 2, 1)/4 kernel
+       across adjacent bands.
+    4. Passband level = median of the smoothed response over its 6 best bands (two octaves'
+       worth: robust to a narrow peak, e.g. a talker's strong fundamental, and still inside
+       the flat part of any voice passband) among the bands centred 250-4000 Hz
+       (:data:`PASSBAND_LEVEL_SPAN_HZ`; all bands when fewer than 6 lie there), so that
+       noise riding on the speech frames outside the voice band -- static crashes, hiss --
+       cannot set it.
+    5. Starting from the maximum in that span, the first band on each side below passband level minus
+       ``drop_db`` marks an edge; the crossing is interpolated linearly in log frequency
+       between exact band centres (IEC 61260-1 base-10).
+
+    Limits: a talker's long-term spectrum differs from the reference by a few dB per band,
+    which moves a 10 dB edge by roughly that amount divided by the chain's roll-off slope
+    (e.g. 3 dB on a 24 dB/octave skirt: an eighth of an octave).  Below the talker's lowest
+    fundamental frequency there is little speech energy whatever the chain, so a low edge
+    near the talker's F0 may be the talker's, not the chain's; likewise above the highest
+    analysed band nothing can be said.  With ``"auto"``, a chain that tilts the spectrum
+    inside the fit span is taken for a change of vocal effort, so its tilt is not seen and
+    its edges are judged against the flattened reference.
+
+    Parameters
+    ----------
+    bands_hz : array_like
+        Nominal one-third-octave centres (Hz) of ``speech_band_db``.
+    speech_band_db : array_like
+        Band levels of the speech-active long-term spectrum (dB, e.g. dBFS).
+    noise_band_db : array_like or None, keyword-only
+        Band levels of the pause spectrum on the same bands, or ``None``.
+    reference : str, keyword-only
+        ``"auto"`` (vocal effort fitted), or a name from
+        :data:`voiceband.reference_spectra.REFERENCE_SPECTRA`: ``"byrne1994"`` (default),
+        ``"ansi_s3.5"``, ``"ansi_s3.5_normal"``, ``"ansi_s3.5_raised"``, ``"ansi_s3.5_loud"``,
+        ``"ansi_s3.5_shout"``.
+    drop_db : float, keyword-only
+        Edge criterion: dB below the passband level.
+    effort_fit_span_hz : (float, float), keyword-only
+        Band-centre span (Hz, inclusive) of the effort fit; used only with ``"auto"``.
+
+    Returns
+    -------
+    PassbandEdges
+        Edges are ``None`` when they cannot be determined (fewer than 5 bands with speech
+        above noise, or the response does not fall ``drop_db`` inside the analysed range).
+        ``reference`` names the spectrum used; with ``"auto"`` it reads e.g.
+        ``"ansi_s3.5_loud (fitted)"`` and ``effort_index`` / ``effort_fit_rms_db`` are set.
+
+    Raises
+    ------
+    MeasurementError
+        Mismatched arrays, unknown reference, ``drop_db`` not positive, or a bad
+        ``effort_fit_span_hz``.
+    """
+    f, s, n = _check_bands(bands_hz, speech_band_db, noise_band_db)
+    drop_db = float(drop_db)
+    if not drop_db > 0:
+        raise MeasurementError(f"drop_db must be positive; got {drop_db:g}")
+    if reference != "auto" and reference not in REFERENCE_SPECTRA:
+        raise MeasurementError(
+            f"reference must be one of auto, {', '.join(REFERENCE_SPECTRA)}; got {reference!r}"
+        )
+    level_all = _speech_minus_noise_db(s, n)
+    if reference != "auto":
+        ref_f, ref_db = reference_band_levels_db(reference)
+        return _edges_against(f, level_all, ref_f, ref_db, reference, drop_db, {})
+    span = _check_span(effort_fit_span_hz)
+    fit = _fit_effort(f, level_all, span)
+    if fit is None:
+        ref_f, ref_db = reference_band_levels_db(_FALLBACK_REFERENCE)
+        return _edges_against(f, level_all, ref_f, ref_db, _FALLBACK_REFERENCE, drop_db, {})
+    # Where the chain's skirts reach into the fit span they tilt it and bias the effort, so
+    # the span is narrowed to an octave (or, if that leaves too few bands, two thirds of an
+    # octave) inside the edges just found and the fit repeated, a few times at most: the
+    # span only ever shrinks.
+    for _ in range(_MAX_FIT_PASSES):
+        edges = _edges_against(
+            f,
+            level_all,
+            *effort_band_levels_db(fit.effort_index),
+            _effort_label(fit.effort_index),
+            drop_db,
+            {
+                "effort_index": fit.effort_index,
+                "effort_fit_rms_db": fit.residual_rms_db,
+                "effort_fit_bands_hz": fit.bands_hz,
+            },
+        )
+        narrower = None
+        for clearance in _EDGE_CLEARANCES:
+            lo, hi = span
+            if edges.low_hz is not None:
+                lo = max(lo, clearance * edges.low_hz)
+            if edges.high_hz is not None:
+                hi = min(hi, edges.high_hz / clearance)
+            narrower = _fit_effort(f, level_all, (lo, hi)) if lo < hi else None
+            if narrower is not None:
+                break
+        if narrower is None or narrower.bands_hz == fit.bands_hz:
+            break
+        span, fit = (lo, hi), narrower
+    return edges
+
+
+def _edges_against(f, level_all, ref_f, ref_db, label, drop_db, extra) -> PassbandEdges:
+    # Steps 2-5 of passband_edges against one reference spectrum.
+    im, ir = _common_bands(f, ref_f)
+    if im.size < 5:
+        return PassbandEdges(None, None, None, drop_db, label, (), (), None, None, **extra)
     common_f = f[im]
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        power = 10.0 ** (s[im] / 10.0)
-        if n is not None:
-            npow = 10.0 ** (n[im] / 10.0)
-            power = np.where(np.isfinite(npow), power - npow, power)
-        level = np.where(power > 0, 10.0 * np.log10(np.where(power > 0, power, 1.0)), -np.inf)
-    resp = level - ref_db[np.array(idx_ref)]
+    level = level_all[im]
+    resp = level - ref_db[ir]
     finite = np.isfinite(resp)
     if np.count_nonzero(finite) < 5:
         return PassbandEdges(
-            None, None, None, drop_db, reference, tuple(common_f.tolist()), (), None, None
+            None, None, None, drop_db, label, tuple(common_f.tolist()), (), None, None, **extra
         )
     top = np.max(resp[finite])
     resp = np.where(finite, np.maximum(resp, top - _FLOOR_DB), top - _FLOOR_DB)
     padded = np.concatenate(([resp[0]], resp, [resp[-1]]))
     smooth = 0.25 * padded[:-2] + 0.5 * padded[1:-1] + 0.25 * padded[2:]
-    level_pb = float(np.median(np.sort(smooth)[-_PASSBAND_BANDS:]))
+    lo_pb, hi_pb = PASSBAND_LEVEL_SPAN_HZ
+    in_span = (common_f >= lo_pb * (1 - 1e-3)) & (common_f <= hi_pb * (1 + 1e-3))
+    if np.count_nonzero(in_span) < _PASSBAND_BANDS:
+        in_span = np.ones(common_f.size, dtype=bool)
+    level_pb = float(np.median(np.sort(smooth[in_span])[-_PASSBAND_BANDS:]))
     thr = level_pb - drop_db
     logf = np.log2(_exact_centre_hz(common_f))
-    i_max = int(np.argmax(smooth))
+    i_max = int(np.flatnonzero(in_span)[np.argmax(smooth[in_span])])
 
     low = None
     for i in range(i_max, 0, -1):
@@ -387,11 +654,12 @@ def passband_edges(
         high_hz=high,
         passband_level_db=level_pb,
         drop_db=drop_db,
-        reference=reference,
+        reference=label,
         bands_hz=tuple(float(v) for v in common_f),
         response_db=tuple(float(v) for v in smooth - level_pb),
         lowest_band_hz=float(common_f[0]),
         highest_band_hz=float(common_f[-1]),
+        **extra,
     )
 
 

@@ -428,7 +428,7 @@ class SpectralAccumulator:
                 obw = None
             lo, hi = TILT_SPAN_HZ
             if not steady:
-                edges = passband_edges(bands.nominal_hz, speech_db, noise_band_db=noise_db)
+                edges = passband_edges(bands.nominal_hz, speech_db, noise_band_db=noise_db, reference="auto")
                 if edges.low_hz is not None:
                     lo = max(lo, edges.low_hz)
                 if edges.high_hz is not None:
