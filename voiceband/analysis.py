@@ -222,6 +222,7 @@ def _combine(info: InputInfo, pipe: _Pipeline) -> AnalysisResult:
         tilt_basis=tilt_basis,
         edges_hz=edges,
         occupied_bandwidth=obw,
+        vocal_effort_index=_finite(getattr(e, "effort_index", None)) if e is not None else None,
     )
     v = sp.voice
     voice = VoiceSection(_finite(v.f0_median_hz), _finite(v.f0_p5_hz), _finite(v.f0_p95_hz))

@@ -115,6 +115,9 @@ class SpectrumSection:
     tilt_basis: str
     edges_hz: EdgesRecord
     occupied_bandwidth: OccupiedBandwidthRecord
+    #: Vocal effort whose ANSI S3.5-1997 Table 3 spectrum shape best fits the speech over 500–2000 Hz,
+    #: on a continuous scale 0 normal, 1 raised, 2 loud, 3 shout; None when not fitted.
+    vocal_effort_index: Optional[float] = None
 
 
 @dataclass(frozen=True)

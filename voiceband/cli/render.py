@@ -53,6 +53,10 @@ def rows(r: AnalysisResult) -> list[tuple[str, str, str, str]]:
     ob = sp.occupied_bandwidth
     add("", f"Occupied bandwidth ({100 * ob.fraction:g} %)", _f(ob.width_hz, "Hz", 0),
         f"{_f(ob.low_hz, '', 0)} – {_f(ob.high_hz, 'Hz', 0)} (ITU-R SM.328)")
+    if sp.vocal_effort_index is not None:
+        names = ("normal", "raised", "loud", "shout")
+        add("", "Vocal effort (fitted)", f"{sp.vocal_effort_index:.1f}",
+            f"0 normal … 3 shout; nearest: {names[min(3, max(0, round(sp.vocal_effort_index)))]}")
     add("", "Spectral tilt", _f(sp.tilt_db_per_octave, "dB/oct"), "one-third-octave band levels vs log2 f")
     add("Voice", "Fundamental (median)", _f(vo.f0_median_hz, "Hz", 0),
         f"5–95 %: {_f(vo.f0_p5_hz, '', 0)} – {_f(vo.f0_p95_hz, 'Hz', 0)}")
