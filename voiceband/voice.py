@@ -6,12 +6,38 @@ a sanity check on the recording.
 
 Streaming: :class:`VoiceReservoir` keeps at most ``capacity_s`` (60 s) of the recording as
 0.5 s chunks, chosen evenly across the file among chunks loud enough to be speech, so
-memory is bounded whatever the file length.  At the end the stored chunks that reach the
-speech threshold found by :mod:`voiceband.activity` are analysed with :func:`yin_f0`, our
-implementation of the YIN estimator (de Cheveigne & Kawahara, J. Acoust. Soc. Am.
-111(4):1917-1930, 2002): difference function (eq. 6), cumulative-mean-normalised
-difference (eq. 8), absolute threshold (step 4) and parabolic interpolation (step 5).
+memory is bounded whatever the file length.
+
+Estimator (in :meth:`VoiceReservoir.result`), per stored chunk:
+
+1. *Analysis band.*  One FFT of the chunk gives, by keeping the bins below 4 kHz, the
+   chunk resampled to about 8 kHz (F0 and the harmonics that fix it lie far below 4 kHz),
+   band-limited to about 70-3500 Hz: a zero-phase 4th-order Butterworth high-pass
+   magnitude at 70 Hz takes away mains hum fundamentals and rumble (YIN follows the
+   period of the harmonics, so a voice whose fundamental is removed is still measured).
+2. *Mains lines.*  Hum is the one strictly periodic sound in a recording that stays the
+   same in every chunk; spoken F0 moves.  Spectral lines at multiples of 50 or 60 Hz that
+   stand 10 dB above the spectrum around them in the 20th percentile of the chunk spectra
+   (a line present in at least 80 % of the chunks) are notched out, so hum cannot supply
+   the period.  A family counts only if its 1st or 2nd harmonic is such a line.
+3. *Periodicity.*  The YIN difference function and its cumulative-mean-normalised form
+   (de Cheveigne & Kawahara, J. Acoust. Soc. Am. 111(4):1917-1930, 2002, eqs. 6-8) in
+   32 ms windows every 10 ms, 50-500 Hz.
+4. *Candidates and voicing* by pYIN (Mauch & Dixon, "pYIN: a fundamental frequency
+   estimator using probabilistic threshold distributions", ICASSP 2014): instead of one
+   YIN threshold, a Beta(2, 18) distribution of thresholds; for each threshold the dips
+   below it get a Boltzmann prior over their order (parameter 2) so that, as in YIN, the
+   first dip is preferred but later ones keep some weight; summing gives each dip a
+   probability of being the period, and 1 minus their sum is the probability that the
+   frame is unvoiced.  Frames below the speech threshold are unvoiced.
+5. *Tracking* by pYIN's hidden Markov model, on a 1/12-octave pitch grid with voiced and
+   unvoiced copies of each pitch: F0 may move at most 0.36 octave per 10 ms frame
+   (pYIN's 35.92 octaves/s), voicing switches with probability 0.01, and the Viterbi
+   path chooses the dip per frame.  Continuity is what removes octave errors on
+   band-limited speech, where the 2nd harmonic often makes the deepest dip.
+
 The 5th, 50th and 95th percentiles of the voiced-frame F0 values are reported.
+:func:`yin_f0` is the plain YIN estimator (steps 1-5 of the paper) for a single signal.
 """
 
 from __future__ import annotations
@@ -38,8 +64,49 @@ _MIN_VOICED_FRAMES = 20
 _ELIGIBLE_BELOW_MAX_DB = 30.0
 #: Most samples the reservoir stores (16.8 MB of float32): 60 s up to 69.9 kHz, less above.
 _MAX_STORED_SAMPLES = 1 << 22
-#: Rate at which F0 is estimated (about 8 kHz; F0 and its low harmonics are far below 4 kHz).
+
+#: Lowest rate at which F0 is estimated (Hz); chunks are resampled to just above it.
 _F0_RATE_HZ = 8000.0
+#: F0 search range of the reservoir (Hz): adult speech including shouting.
+_FMIN_HZ, _FMAX_HZ = 50.0, 500.0
+#: Shortest YIN integration window (s); also at least one period of ``_FMIN_HZ``.
+_WINDOW_S = 0.032
+#: Frame hop (s).
+_HOP_S = 0.01
+#: High-pass corner of the analysis band (Hz) and its Butterworth order.
+_HIGHPASS_HZ, _HIGHPASS_ORDER = 70.0, 4
+#: Raised-cosine low-pass edge of the analysis band (Hz), below the resampled Nyquist.
+_TOP_PASS_HZ, _TOP_STOP_HZ = 3200.0, 3800.0
+#: Mains frequencies (Hz) whose harmonics are checked for hum lines, up to _HUM_TOP_HZ.
+_MAINS_HZ = (50.0, 60.0)
+_HUM_TOP_HZ = 2000.0
+#: A hum line stands this far above the median of the spectrum within +-_HUM_SPAN_HZ (dB).
+_HUM_LINE_DB = 10.0
+_HUM_SPAN_HZ = 25.0
+#: Percentile of the chunk spectra taken as the steady spectrum, and fewest chunks for it.
+_HUM_PERCENTILE = 20.0
+_HUM_MIN_CHUNKS = 4
+#: Mains frequency tolerance (fraction) when looking for a harmonic's line.
+_MAINS_TOLERANCE = 0.005
+#: Half-width of a hum notch (Hz).
+_NOTCH_HALF_WIDTH_HZ = 8.0
+
+# pYIN (Mauch & Dixon 2014): Beta(alpha=2, beta=18) threshold prior (mean 0.1), Boltzmann
+# parameter 2 over dip order, 1 % of the mass below every dip to the lowest dip.
+_BETA_B = 18.0
+_BOLTZMANN = 2.0
+_NO_DIP_WEIGHT = 0.01
+#: Dips per frame considered (the lowest ones).
+_DIPS = 8
+#: HMM: pitch grid step (octave), largest move per hop (octave), voicing switch probability.
+_GRID_OCT = 1.0 / 12.0
+_MAX_MOVE_OCT = 0.36
+_SWITCH_PROB = 0.01
+#: Divisor of the unvoiced probability.  pYIN spreads it over its pitch grid (about 400
+#: states for 50-500 Hz at 0.1 semitone), which makes it call a frame voiced on weak
+#: periodicity; this fixed divisor keeps that balance on our coarser grid (chosen on
+#: synthetic speech with hum, noise and band-limiting).
+_UNVOICED_DIVISOR = 150.0
 
 
 @dataclass(frozen=True)
@@ -62,6 +129,61 @@ class VoiceResult:
     f0_p95_hz: Optional[float]
     voiced_frame_count: int
     analysed_s: float
+
+
+def _frames(rows: np.ndarray, length: int, hop: int) -> np.ndarray:
+    """All frames of ``length`` samples every ``hop`` samples of each row, shape (rows, T, length)."""
+    rows = np.ascontiguousarray(rows)
+    n_frames = (rows.shape[1] - length) // hop + 1
+    s0, s1 = rows.strides
+    return np.lib.stride_tricks.as_strided(
+        rows, shape=(rows.shape[0], n_frames, length), strides=(s0, hop * s1, s1), writeable=False
+    )
+
+
+def _cmnd(frames: np.ndarray, w: int, tau_max: int) -> tuple[np.ndarray, np.ndarray]:
+    """YIN cumulative-mean-normalised difference of each frame (eqs. 6-8).
+
+    ``frames`` has shape (N, w + tau_max + 1).  Returns ``dn`` (N, tau_max + 1) and the
+    energy ``e0`` (N,) of each integration window.  ``d(tau) = e(0) + e(tau) - 2 r(tau)``
+    (YIN eq. 7) with the cross term by FFT: lags up to ``tau_max`` with the first ``w``
+    samples need no more than ``len(frame)`` points (no circular wrap).
+    """
+    from scipy.fft import irfft, next_fast_len, rfft
+
+    n, length = frames.shape
+    nfft = next_fast_len(length, real=True)
+    # Cross term in the frames' own precision (float32 from the reservoir); energies,
+    # whose differences matter near a dip, are accumulated in float64.
+    r = irfft(np.conj(rfft(frames[:, :w], nfft, axis=1)) * rfft(frames, nfft, axis=1), nfft, axis=1)
+    sq = np.empty((n, length + 1))
+    sq[:, 0] = 0.0
+    np.cumsum(np.square(frames, dtype=np.float64), axis=1, out=sq[:, 1:])
+    e0 = sq[:, w].copy()
+    d = sq[:, w : w + tau_max + 1] - sq[:, : tau_max + 1]
+    d += e0[:, None]
+    d -= 2.0 * r[:, : tau_max + 1]
+    np.maximum(d, 0.0, out=d)
+    cum = np.cumsum(d[:, 1:], axis=1)
+    dn = np.ones_like(d)
+    taus = np.arange(1, tau_max + 1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        dn[:, 1:] = np.where(cum > 0, d[:, 1:] * taus / cum, 1.0)
+    return dn, e0
+
+
+def _parabolic_period(dn: np.ndarray, t: np.ndarray) -> np.ndarray:
+    """Step 5 of YIN: parabolic interpolation of ``dn`` around integer lags ``t`` (same leading shape)."""
+    last = dn.shape[-1] - 1
+    lo = np.clip(t - 1, 1, last)
+    hi = np.clip(t + 1, 1, last)
+    a = np.take_along_axis(dn, lo, -1)
+    b = np.take_along_axis(dn, t, -1)
+    c = np.take_along_axis(dn, hi, -1)
+    den = a - 2.0 * b + c
+    with np.errstate(divide="ignore", invalid="ignore"):
+        delta = np.where((den > 0) & (lo < t) & (hi > t), 0.5 * (a - c) / den, 0.0)
+    return t + np.clip(delta, -0.5, 0.5)
 
 
 def yin_f0(
@@ -101,10 +223,11 @@ def yin_f0(
     -----
     Integration window ``W = max(fs / fmin, 25 ms)``, lags up to ``fs / fmin``; the
     difference function is ``d(tau) = e(0) + e(tau) - 2 r(tau)`` (YIN eq. 7) with the
-    cross term by FFT, all frames at once.
+    cross term by FFT, all frames at once.  This is the plain estimator, with no
+    pre-filter and no tracking; :class:`VoiceReservoir` adds both for running speech.
     """
     fs = float(sample_rate_hz)
-    sig = np.asarray(x, dtype=np.float64)
+    sig = np.ascontiguousarray(x, dtype=np.float64)
     if sig.ndim != 1:
         raise SignalValueError(f"the signal must be one-dimensional; got shape {sig.shape}")
     if not (0 < fmin_hz < fmax_hz < fs / 2):
@@ -119,26 +242,9 @@ def yin_f0(
     if sig.size < length:
         empty = np.zeros(0)
         return empty, empty, empty
-    n_frames = (sig.size - length) // hop + 1
-    frames = np.lib.stride_tricks.as_strided(
-        sig, shape=(n_frames, length), strides=(hop * sig.itemsize, sig.itemsize), writeable=False
-    )
-    from scipy.fft import irfft, next_fast_len, rfft
-
-    nfft = next_fast_len(length + w)
-    head = np.zeros((n_frames, w))
-    head[:] = frames[:, :w]
-    r = irfft(np.conj(rfft(head, nfft, axis=1)) * rfft(frames, nfft, axis=1), nfft, axis=1)[:, : tau_max + 1]
-    sq = np.concatenate((np.zeros((n_frames, 1)), np.cumsum(frames * frames, axis=1)), axis=1)
-    e0 = sq[:, w]
-    taus = np.arange(tau_max + 1)
-    e_tau = sq[:, taus + w] - sq[:, taus]
-    d = np.maximum(e0[:, None] + e_tau - 2.0 * r, 0.0)
-    # Cumulative-mean-normalised difference (YIN eq. 8).
-    cum = np.cumsum(d[:, 1:], axis=1)
-    dn = np.ones_like(d)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        dn[:, 1:] = np.where(cum > 0, d[:, 1:] * taus[1:] / cum, 1.0)
+    frames = _frames(sig[None, :], length, hop)[0]
+    n_frames = frames.shape[0]
+    dn, e0 = _cmnd(frames, w, tau_max)
     seg = dn[:, tau_min : tau_max + 1]
     below = seg < threshold
     voiced = below.any(axis=1)
@@ -152,19 +258,216 @@ def yin_f0(
         if not move.any():
             break
         tau = np.where(move, nxt, tau)
-    t_abs = tau + tau_min
-    # Step 5: parabolic interpolation of the normalised difference around the minimum.
-    lo = np.clip(t_abs - 1, 1, tau_max)
-    hi = np.clip(t_abs + 1, 1, tau_max)
-    a, b, c = dn[rows, lo], dn[rows, t_abs], dn[rows, hi]
-    den = a - 2.0 * b + c
-    with np.errstate(divide="ignore", invalid="ignore"):
-        delta = np.where((den > 0) & (lo < t_abs) & (hi > t_abs), 0.5 * (a - c) / den, 0.0)
-    period = t_abs + np.clip(delta, -0.5, 0.5)
+    period = _parabolic_period(dn, (tau + tau_min)[:, None])[:, 0]
     f0 = np.where(voiced, fs / period, np.nan)
     with np.errstate(divide="ignore"):
         level = 10.0 * np.log10(e0 / w)
     return f0, level, np.arange(n_frames) * hop / fs
+
+
+def _beta_cdf(x: np.ndarray) -> np.ndarray:
+    """CDF of Beta(2, b) (closed form for alpha = 2): ``1 - (1 - x)^b (1 + b x)``."""
+    x = np.clip(x, 0.0, 1.0)
+    return 1.0 - (1.0 - x) ** _BETA_B * (1.0 + _BETA_B * x)
+
+
+def _dip_probabilities(dn: np.ndarray, tau_min: int) -> tuple[np.ndarray, np.ndarray]:
+    """pYIN probability that each of a frame's lowest dips is its period.
+
+    Parameters
+    ----------
+    dn : ndarray, shape (N, tau_max + 1)
+        Cumulative-mean-normalised difference per frame.
+
+    Returns
+    -------
+    period : ndarray, shape (N, _DIPS)
+        Interpolated lag of each dip (samples); NaN where a frame has fewer dips.
+    prob : ndarray, shape (N, _DIPS)
+        Probability of each dip (0 where there is none); 1 minus the row sum is the
+        probability that the frame is unvoiced.
+
+    Notes
+    -----
+    With the dips' heights sorted, ``g_1 <= g_2 <= ...``, a threshold between ``g_k`` and
+    ``g_{k+1}`` (probability ``F(g_{k+1}) - F(g_k)`` under the Beta prior ``F``) has the
+    ``k`` lowest dips below it; among those the dip of order ``j`` by lag gets the
+    Boltzmann weight ``exp(-2 j) / sum_i exp(-2 i)``.  Thresholds below every dip
+    (``F(g_1)``) give 1 % of their mass to the lowest dip.  This is pYIN's sum over a
+    threshold grid taken in the limit of a fine grid.
+    """
+    n = dn.shape[0]
+    seg = dn[:, tau_min:]
+    h = np.full(seg.shape, np.inf)
+    inner = (seg[:, 1:-1] < seg[:, :-2]) & (seg[:, 1:-1] <= seg[:, 2:])
+    h[:, 1:-1] = np.where(inner, seg[:, 1:-1], np.inf)
+    m = min(_DIPS, max(1, seg.shape[1] - 2))
+    lowest = np.argpartition(h, m - 1, axis=1)[:, :m] if m < seg.shape[1] else np.argsort(h, axis=1)
+    lag = np.sort(lowest, axis=1)                          # dips in lag order
+    hh = np.take_along_axis(h, lag, 1)                     # their heights (inf: no dip)
+    exists = np.isfinite(hh)
+    order = np.argsort(hh, axis=1, kind="stable")          # height order
+    g = np.take_along_axis(hh, order, 1)
+    pos = np.empty_like(order)
+    np.put_along_axis(pos, order, np.arange(m)[None, :].repeat(n, 0), 1)
+    cdf = _beta_cdf(np.where(np.isfinite(g), g, 1.0))
+    upper = np.concatenate((cdf[:, 1:], np.ones((n, 1))), axis=1)
+    mass = np.maximum(upper - cdf, 0.0)                    # (N, k): threshold between g_k and g_k+1
+    mass = np.where(np.isfinite(g), mass, 0.0)
+    # member[:, k, i]: dip i (lag order) is among the k+1 lowest.
+    member = pos[:, None, :] <= np.arange(m)[None, :, None]
+    member &= exists[:, None, :]
+    rank = np.cumsum(member, axis=2) - member
+    weight = np.where(member, np.exp(-_BOLTZMANN * rank), 0.0)
+    norm = weight.sum(axis=2, keepdims=True)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        weight = np.where(norm > 0, weight / norm, 0.0)
+    prob = np.einsum("nk,nki->ni", mass, weight)
+    # Thresholds below every dip: a little of their mass to the lowest dip.
+    first = np.argmin(hh, axis=1)
+    extra = np.where(exists.any(axis=1), _NO_DIP_WEIGHT * cdf[:, 0], 0.0)
+    prob[np.arange(n), first] += extra
+    prob = np.where(exists, prob, 0.0)
+    t = np.where(exists, lag + tau_min, 1)
+    period = np.where(exists, _parabolic_period(dn, t), np.nan)
+    return period, prob
+
+
+def _track(log_f0: np.ndarray, prob: np.ndarray) -> np.ndarray:
+    """pYIN hidden-Markov tracking, all chunks at once.
+
+    Parameters
+    ----------
+    log_f0, prob : ndarray, shape (C, T, K)
+        Candidate log2 F0 and probability of each of K dips per frame, for C independent
+        chunks of T frames.
+
+    Returns
+    -------
+    ndarray, shape (C, T)
+        log2 F0 of the Viterbi path, NaN where the path is unvoiced.
+    """
+    c_count, t_count, k_count = prob.shape
+    lo = math.log2(_FMIN_HZ)
+    n_bins = int(math.ceil((math.log2(_FMAX_HZ) - lo) / _GRID_OCT)) + 1
+    b = np.clip(np.round((np.nan_to_num(log_f0, nan=lo) - lo) / _GRID_OCT).astype(np.int64), 0, n_bins - 1)
+    flat = (np.arange(c_count * t_count).reshape(c_count, t_count, 1) * n_bins + b).ravel()
+    pv = np.bincount(flat, weights=prob.ravel(), minlength=c_count * t_count * n_bins)
+    pv = pv.reshape(c_count, t_count, n_bins)
+    tiny = 1e-300
+    ev = np.log(pv + tiny)
+    eu = np.log(np.maximum(1.0 - prob.sum(axis=2), tiny) / _UNVOICED_DIVISOR)
+    w = int(round(_MAX_MOVE_OCT / _GRID_OCT))
+    tri = (w + 1.0 - np.abs(np.arange(-w, w + 1))) / (w + 1.0) ** 2   # triangular, sums to 1
+    lt = np.log(tri)[::-1]
+    stay, switch = math.log(1.0 - _SWITCH_PROB), math.log(_SWITCH_PROB)
+    from numpy.lib.stride_tricks import sliding_window_view
+
+    v = ev[:, 0].copy()
+    u = np.repeat(eu[:, 0, None], n_bins, axis=1)
+    back_v = np.zeros((c_count, t_count, n_bins), dtype=np.int16)
+    back_u = np.zeros((c_count, t_count, n_bins), dtype=np.int16)
+    pad = np.full((c_count, w), -np.inf)
+    span = 2 * w + 1
+    for t in range(1, t_count):
+        # best predecessor within +-w bins: window position j is source bin (b + j - w)
+        sv = sliding_window_view(np.concatenate((pad, v, pad), axis=1), span, axis=1) + lt
+        su = sliding_window_view(np.concatenate((pad, u, pad), axis=1), span, axis=1) + lt
+        jv = np.argmax(sv, axis=2)
+        ju = np.argmax(su, axis=2)
+        mv = np.take_along_axis(sv, jv[..., None], 2)[..., 0]
+        mu = np.take_along_axis(su, ju[..., None], 2)[..., 0]
+        from_v, from_u = mv + stay, mu + switch
+        keep = from_v >= from_u
+        v = np.where(keep, from_v, from_u) + ev[:, t]
+        back_v[:, t] = np.where(keep, jv, ju + span)       # >= span: came from the other voicing
+        from_u, from_v = mu + stay, mv + switch
+        keep = from_u >= from_v
+        u = np.where(keep, from_u, from_v) + eu[:, t, None]
+        back_u[:, t] = np.where(keep, ju, jv + span)
+    rows = np.arange(c_count)
+    state = np.argmax(np.concatenate((v, u), axis=1), axis=1)
+    voiced = state < n_bins
+    bin_ = state % n_bins
+    out = np.full((c_count, t_count), np.nan)
+    for t in range(t_count - 1, -1, -1):
+        # the frame's F0 is its most probable dip inside the chosen pitch bin
+        inside = (b[:, t] == bin_[:, None]) & (prob[:, t] > 0)
+        k = np.argmax(np.where(inside, prob[:, t], -1.0), axis=1)
+        ok = voiced & inside.any(axis=1)
+        out[ok, t] = log_f0[rows, t, k][ok]
+        if t == 0:
+            break
+        code = np.where(voiced, back_v[rows, t, bin_], back_u[rows, t, bin_]).astype(np.int64)
+        other = code >= span
+        bin_ = bin_ + np.where(other, code - span, code) - w
+        voiced = voiced ^ other
+    return out
+
+
+def _analysis_band(chunks: np.ndarray, sample_rate_hz: float) -> tuple[np.ndarray, float]:
+    """Resample chunks to about 8 kHz, band-limit them and notch out mains hum lines.
+
+    Returns the filtered chunks (C, m) and their sample rate ``m * fs / L`` (Hz).  The
+    chunks are treated as periodic (one FFT each); mains harmonics fall on FFT bins for
+    the default 0.5 s chunks.
+    """
+    from scipy.fft import irfft, rfft
+
+    fs = sample_rate_hz
+    length = chunks.shape[1]
+    m = length if fs <= _F0_RATE_HZ else int(math.ceil(length * _F0_RATE_HZ / fs))
+    rate = m * fs / length
+    spec = rfft(chunks, axis=1)[:, : m // 2 + 1]
+    df = fs / length
+    f = np.arange(spec.shape[1]) * df
+    gain = np.zeros(f.size)
+    gain[1:] = 1.0 / np.sqrt(1.0 + (_HIGHPASS_HZ / f[1:]) ** (2 * _HIGHPASS_ORDER))
+    top_pass = min(_TOP_PASS_HZ, 0.40 * rate)
+    top_stop = min(_TOP_STOP_HZ, 0.475 * rate)
+    edge = (f > top_pass) & (f < top_stop)
+    gain[edge] *= 0.5 + 0.5 * np.cos(np.pi * (f[edge] - top_pass) / (top_stop - top_pass))
+    gain[f >= top_stop] = 0.0
+    for lo_bin, hi_bin in _hum_lines(spec, df):
+        gain[lo_bin:hi_bin] = 0.0
+    spec *= gain
+    out = irfft(spec, m, axis=1)
+    out *= m / length
+    return out, rate
+
+
+def _hum_lines(spec: np.ndarray, df: float) -> list[tuple[int, int]]:
+    """Bin ranges of steady mains lines in the chunk spectra (see the module notes)."""
+    c_count = spec.shape[0]
+    top = min(int(_HUM_TOP_HZ / df) + 1, spec.shape[1])
+    span = int(round(_HUM_SPAN_HZ / df))
+    if c_count < _HUM_MIN_CHUNKS or top < 2 * span + 2 or df > 10.0:
+        return []
+    power = np.abs(spec[:, :top]) ** 2
+    steady = np.percentile(power, _HUM_PERCENTILE, axis=0)
+    padded = np.concatenate((np.full(span, np.nan), steady, np.full(span, np.nan)))
+    from numpy.lib.stride_tricks import sliding_window_view
+
+    with np.errstate(all="ignore"):
+        around = np.nanmedian(sliding_window_view(padded, 2 * span + 1), axis=1)
+        excess_db = 10.0 * np.log10(steady / around)
+    excess_db = np.nan_to_num(excess_db, nan=-np.inf, posinf=np.inf, neginf=-np.inf)
+    half = max(1, int(math.ceil(_NOTCH_HALF_WIDTH_HZ / df)))
+    lines: list[tuple[int, int]] = []
+    for mains in _MAINS_HZ:
+        found = []
+        for k in range(1, int(_HUM_TOP_HZ // mains) + 1):
+            centre = k * mains / df
+            reach = _MAINS_TOLERANCE * k * mains / df + 1.0
+            lo_b, hi_b = max(1, int(math.floor(centre - reach))), min(top - 1, int(math.ceil(centre + reach)))
+            if hi_b < lo_b:
+                break
+            peak = lo_b + int(np.argmax(steady[lo_b : hi_b + 1]))
+            if excess_db[peak] >= _HUM_LINE_DB:
+                found.append((k, peak))
+        if any(k <= 2 for k, _ in found):
+            lines.extend((max(1, p - half), p + half + 1) for _, p in found)
+    return lines
 
 
 class VoiceReservoir:
@@ -279,37 +582,69 @@ class VoiceReservoir:
         Parameters
         ----------
         min_level_dbfs : float or None, keyword-only
-            Speech threshold (from :class:`voiceband.activity.ActivityResult`): chunks and
-            YIN frames below it are ignored.
+            Speech threshold (from :class:`voiceband.activity.ActivityResult`): analysis
+            frames whose level is below it are unvoiced, and chunks with no frame at or
+            above it are not counted in ``analysed_s``.
         """
         fs = self.sample_rate_hz
         gate = -math.inf if min_level_dbfs is None else float(min_level_dbfs)
         floor = self._max_level - _ELIGIBLE_BELOW_MAX_DB
-        slots = [j for j in sorted(range(len(self._prio)), key=self._prio.__getitem__)
-                 if self._level[j] >= max(gate, floor)]
+        # Chunks in priority order, so the result does not depend on storage slots.
+        slots = [j for j in sorted(range(len(self._prio)), key=self._prio.__getitem__) if self._level[j] >= floor]
         if not slots:
             return VoiceResult(None, None, None, 0, 0.0)
-        q = max(1, int(fs // _F0_RATE_HZ))
-        chunks = self._store[slots].astype(np.float64)
-        if q > 1:
-            from .lowpass import decimate_rows
-
-            chunks = decimate_rows(chunks, q)
-        rate = fs / q
-        f0s, levels = [], []
-        for ch in chunks:
-            f0, lev, _ = yin_f0(ch, rate)
-            f0s.append(f0)
-            levels.append(lev)
-        f0 = np.concatenate(f0s)
-        lev = np.concatenate(levels)
-        voiced = np.isfinite(f0) & (lev >= gate)
-        v = f0[voiced]
-        analysed = len(slots) * self.chunk_length / fs
+        chunks = self._store[slots]
+        band, rate = _analysis_band(chunks, fs)
+        tau_max = int(math.ceil(rate / _FMIN_HZ))
+        tau_min = max(2, int(math.floor(rate / _FMAX_HZ)))
+        w = max(tau_max, int(round(_WINDOW_S * rate)))
+        length = w + tau_max + 1
+        hop = max(1, int(round(_HOP_S * rate)))
+        if band.shape[1] < length:
+            return VoiceResult(None, None, None, 0, 0.0)
+        frames = _frames(band, length, hop)
+        c_count, t_count = frames.shape[:2]
+        # Level of each integration window, from the stored (full-band) samples; only
+        # frames at or above the gate are analysed, the others are unvoiced.
+        scale = chunks.shape[1] / band.shape[1]
+        level = self._window_levels(chunks, t_count, hop * scale, w * scale)
+        loud = level >= gate
+        sel = np.flatnonzero(loud.ravel())
+        log_f0 = np.full((c_count * t_count, _DIPS), np.nan)
+        prob = np.zeros((c_count * t_count, _DIPS))
+        if sel.size:
+            dn, _ = _cmnd(frames.reshape(c_count * t_count, length)[sel], w, tau_max)
+            period, p = _dip_probabilities(dn, tau_min)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                log_f0[sel, : p.shape[1]] = np.log2(rate / period)
+            prob[sel, : p.shape[1]] = p
+        path = _track(log_f0.reshape(c_count, t_count, -1), prob.reshape(c_count, t_count, -1))
+        v = 2.0 ** path[np.isfinite(path)]
+        analysed = int(np.count_nonzero(loud.any(axis=1))) * self.chunk_length / fs
         if v.size < _MIN_VOICED_FRAMES:
             return VoiceResult(None, None, None, int(v.size), analysed)
         p5, p50, p95 = np.percentile(v, [5.0, 50.0, 95.0])
         return VoiceResult(float(p50), float(p5), float(p95), int(v.size), analysed)
+
+    @staticmethod
+    def _window_levels(chunks: np.ndarray, t_count: int, hop: float, width: float) -> np.ndarray:
+        """Mean square (dBFS) of ``t_count`` windows of ``width`` samples every ``hop`` samples per chunk."""
+        start = np.round(np.arange(t_count) * hop).astype(np.int64)
+        n = max(1, int(round(width)))
+        stop = np.minimum(start + n, chunks.shape[1])
+        # Sums over the pieces between consecutive window edges, then windows from those.
+        edges = np.unique(np.concatenate((start, stop, [chunks.shape[1]])))
+        edges = edges[edges < chunks.shape[1]]
+        pieces = np.add.reduceat(np.square(chunks), edges, axis=1, dtype=np.float64)
+        cum = np.zeros((chunks.shape[0], edges.size + 1))
+        np.cumsum(pieces, axis=1, out=cum[:, 1:])
+        pos = {int(e): i for i, e in enumerate(edges)}
+        pos[chunks.shape[1]] = edges.size
+        i0 = np.array([pos[int(v)] for v in start])
+        i1 = np.array([pos[int(v)] for v in stop])
+        ms = (cum[:, i1] - cum[:, i0]) / n
+        with np.errstate(divide="ignore"):
+            return 10.0 * np.log10(np.maximum(ms, 0.0))
 
 
 def measure_voice(x, sample_rate_hz: float, *, min_level_dbfs: Optional[float] = None, **options) -> VoiceResult:
