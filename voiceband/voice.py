@@ -19,7 +19,7 @@ Estimator (in :meth:`VoiceReservoir.result`), per stored chunk:
    same in every chunk; spoken F0 moves.  Spectral lines at multiples of 50 or 60 Hz
    (up to 2 kHz) that stand 10 dB above the median spectrum within +-25 Hz, in the 20th
    percentile of the chunk spectra (so present in at least 80 % of the chunks; 4 chunks
-   or more), are notched out (+-8 Hz), so hum cannot supply the period in pauses or
+   or more), are notched out (+-10 Hz), so hum cannot supply the period in pauses or
    dominate it in speech.  A family counts only if its 1st or 2nd harmonic is such a
    line; a perfectly steady tone at 100 or 120 Hz is therefore taken for hum.
 3. *Periodicity.*  The YIN difference function and its cumulative-mean-normalised form
@@ -38,6 +38,9 @@ Estimator (in :meth:`VoiceReservoir.result`), per stored chunk:
    (35.92 octaves/s, librosa.pyin's default; from memory), voicing switches with probability 0.01, and the Viterbi
    path chooses the dip per frame.  Continuity is what removes octave errors on
    band-limited speech, where the 2nd harmonic often makes the deepest dip.
+6. *Talker range.*  The tracking is run again with only the dips between 0.75 x the
+   first pass's lower quartile and 1.5 x its upper quartile (the two-pass floor and
+   ceiling of De Looze & Hirst 2008), which removes the remaining octave jumps.
 
 The 5th, 50th and 95th percentiles of the voiced-frame F0 values are reported.
 :func:`yin_f0` is the plain YIN estimator (steps 1-5 of the paper) for a single signal.
@@ -74,6 +77,9 @@ _MAX_STORED_SAMPLES = 1 << 22
 #: Gating at the speech threshold itself kept only the louder syllables, whose F0 is
 #: higher, and raised the median by up to 15 % on noisy or hummy synthetic speech.
 _PAUSE_BELOW_SPEECH_DB = 7.0
+#: A frame is unvoiced when the analysis band keeps less than this share of its power (dB):
+#: voiced speech has most of its power between 70 Hz and 3.5 kHz, even under strong hum.
+_REMOVED_MAX_DB = 20.0
 #: Lowest rate at which F0 is estimated (Hz); chunks are resampled to just above it.
 _F0_RATE_HZ = 8000.0
 #: F0 search range of the reservoir (Hz): adult speech including shouting.
@@ -92,13 +98,16 @@ _HUM_TOP_HZ = 2000.0
 #: A hum line stands this far above the median of the spectrum within +-_HUM_SPAN_HZ (dB).
 _HUM_LINE_DB = 10.0
 _HUM_SPAN_HZ = 25.0
+#: Smallest share of the analysis-band power of a chunk that a hum line must have (-60 dB).
+_HUM_MIN_SHARE = 1e-6
 #: Percentile of the chunk spectra taken as the steady spectrum, and fewest chunks for it.
 _HUM_PERCENTILE = 20.0
 _HUM_MIN_CHUNKS = 4
-#: Mains frequency tolerance (fraction) when looking for a harmonic's line.
+#: Mains frequency tolerance (fraction) when looking for a harmonic's line (grids stay
+#: within about +-0.05-0.2 Hz; trade notes 6.1).
 _MAINS_TOLERANCE = 0.005
-#: Half-width of a hum notch (Hz).
-_NOTCH_HALF_WIDTH_HZ = 8.0
+#: Half-width of a hum notch (Hz): the gain rises as sin^2 from 0 at the line to 1.
+_NOTCH_HALF_WIDTH_HZ = 10.0
 
 # pYIN (Mauch & Dixon 2014; parameter values as in librosa.pyin's defaults, from memory):
 # Beta(alpha=2, beta=18) threshold prior (mean 0.1) and 1 % of the mass below every dip to
@@ -121,6 +130,11 @@ _SWITCH_PROB = 0.01
 #: periodicity; this fixed divisor keeps that balance on our coarser grid (chosen on
 #: synthetic speech with hum, noise and band-limiting).
 _UNVOICED_DIVISOR = 150.0
+#: Second pass in the talker's own range, ``0.75 * q25`` to ``1.5 * q75`` of the first
+#: pass (the two-pass pitch floor and ceiling of De Looze & Hirst, "Detecting changes in
+#: key and range for the automatic modelling and coding of intonation", Speech Prosody
+#: 2008; factors from memory).
+_RANGE_FLOOR, _RANGE_CEILING = 0.75, 1.5
 
 
 @dataclass(frozen=True)
@@ -347,7 +361,7 @@ def _dip_probabilities(dn: np.ndarray, tau_min: int) -> tuple[np.ndarray, np.nda
     return period, prob
 
 
-def _track(log_f0: np.ndarray, prob: np.ndarray) -> np.ndarray:
+def _track(log_f0: np.ndarray, prob: np.ndarray, lo: float, hi: float) -> np.ndarray:
     """pYIN hidden-Markov tracking, all chunks at once.
 
     Parameters
@@ -355,6 +369,9 @@ def _track(log_f0: np.ndarray, prob: np.ndarray) -> np.ndarray:
     log_f0, prob : ndarray, shape (C, T, K)
         Candidate log2 F0 and probability of each of K dips per frame, for C independent
         chunks of T frames.
+    lo, hi : float
+        log2 of the lowest and highest F0 of the pitch grid (Hz); candidates outside
+        count in the nearest end bin.
 
     Returns
     -------
@@ -362,8 +379,7 @@ def _track(log_f0: np.ndarray, prob: np.ndarray) -> np.ndarray:
         log2 F0 of the Viterbi path, NaN where the path is unvoiced.
     """
     c_count, t_count, k_count = prob.shape
-    lo = math.log2(_FMIN_HZ)
-    n_bins = int(math.ceil((math.log2(_FMAX_HZ) - lo) / _GRID_OCT)) + 1
+    n_bins = int(math.ceil((hi - lo) / _GRID_OCT)) + 1
     b = np.clip(np.round((np.nan_to_num(log_f0, nan=lo) - lo) / _GRID_OCT).astype(np.int64), 0, n_bins - 1)
     flat = (np.arange(c_count * t_count).reshape(c_count, t_count, 1) * n_bins + b).ravel()
     pv = np.bincount(flat, weights=prob.ravel(), minlength=c_count * t_count * n_bins)
@@ -420,11 +436,10 @@ def _track(log_f0: np.ndarray, prob: np.ndarray) -> np.ndarray:
 
 
 def _analysis_band(chunks: np.ndarray, sample_rate_hz: float) -> tuple[np.ndarray, float]:
-    """Resample chunks to about 8 kHz, band-limit them and notch out mains hum lines.
+    """Resample chunks to about 8 kHz, band-limit them and take out mains hum.
 
     Returns the filtered chunks (C, m) and their sample rate ``m * fs / L`` (Hz).  The
-    chunks are treated as periodic (one FFT each); mains harmonics fall on FFT bins for
-    the default 0.5 s chunks.
+    chunks are treated as periodic (one FFT each).
     """
     from scipy.fft import irfft, rfft
 
@@ -442,16 +457,70 @@ def _analysis_band(chunks: np.ndarray, sample_rate_hz: float) -> tuple[np.ndarra
     edge = (f > top_pass) & (f < top_stop)
     gain[edge] *= 0.5 + 0.5 * np.cos(np.pi * (f[edge] - top_pass) / (top_stop - top_pass))
     gain[f >= top_stop] = 0.0
-    for lo_bin, hi_bin in _hum_lines(spec, df):
-        gain[lo_bin:hi_bin] = 0.0
+    for found in _hum_families(spec, df):
+        # The lines found: fitted (frequency refined) and subtracted, then notched.
+        # (Subtracting the family's other harmonics as well, where no line stands out,
+        # would take the speech's share at those frequencies out of every chunk and leave
+        # a 50/60 Hz-periodic residue in the pauses.)
+        fitted = [_remove_line(spec, float(peak), length, refine=True) for _, peak in found]
+        for kappa in fitted:
+            # Smooth (sin^2) notch for what is left of a line that is not quite steady; a
+            # sharp-edged notch would smear the speech it removes over the whole chunk, as
+            # a 50/60 Hz-periodic residue in the pauses.
+            u = np.abs(f - kappa * df) / _NOTCH_HALF_WIDTH_HZ
+            near = u < 1.0
+            gain[near] *= np.sin(0.5 * np.pi * u[near]) ** 2
     spec *= gain
     out = irfft(spec, m, axis=1)
     out *= m / length
     return out, rate
 
 
-def _hum_lines(spec: np.ndarray, df: float) -> list[tuple[int, int]]:
-    """Bin ranges of steady mains lines in the chunk spectra (see the module notes)."""
+def _dirichlet(m: np.ndarray, length: int) -> np.ndarray:
+    """DFT at bin offsets ``m`` of a complex exponential over ``length`` samples:
+    ``exp(-i pi m (L-1)/L) sin(pi m) / sin(pi m / L)`` (``L`` at ``m = 0``)."""
+    with np.errstate(invalid="ignore", divide="ignore"):
+        ratio = np.sin(np.pi * m) / np.sin(np.pi * m / length)
+    ratio = np.where(np.abs(m) < 1e-9, float(length), ratio)
+    return np.exp(-1j * np.pi * m * (length - 1) / length) * ratio
+
+
+def _line_model(k: np.ndarray, kappa: np.ndarray, length: int) -> tuple[np.ndarray, np.ndarray]:
+    """DFTs at bins ``k`` of ``cos`` and ``sin`` at the fractional bins ``kappa``: shape (len(kappa), len(k))."""
+    m = k[None, :] - kappa[:, None]
+    d_pos, d_neg = _dirichlet(m, length), _dirichlet(k[None, :] + kappa[:, None], length)
+    return 0.5 * (d_pos + d_neg), (d_pos - d_neg) / 2j
+
+
+def _remove_line(spec: np.ndarray, kappa: float, length: int, *, refine: bool) -> float:
+    """Subtract from each row of ``spec`` (rfft bins of ``length``-sample rows) the steady
+    sinusoid at bin ``kappa`` that best fits the bins within 3 of it; returns its bin.
+
+    The DFT of ``cos`` and ``sin`` at a frequency off the bin grid is known in closed form
+    (Dirichlet kernel), so a least-squares fit on the few bins around the line gives its
+    whole leakage pattern, which is subtracted from every bin: a line off the bin grid
+    (mains off nominal) would otherwise leave a residue that a notch cannot reach.  With
+    ``refine`` the frequency is searched within +-0.5 bin (steps of 0.05) for the fit that
+    leaves the least power around the line in the median chunk.
+    """
+    n_bins = spec.shape[1]
+    centre = int(round(kappa))
+    near = np.arange(max(0, centre - 3), min(n_bins, centre + 4))
+    data = np.concatenate((spec[:, near].real, spec[:, near].imag), axis=1).T.astype(np.float64)
+    kappas = kappa + np.linspace(-0.5, 0.5, 21) if refine else np.array([kappa])
+    c, s = _line_model(near, kappas, length)
+    model = np.stack((np.concatenate((c.real, c.imag), axis=1), np.concatenate((s.real, s.imag), axis=1)), axis=2)
+    coef = np.linalg.pinv(model) @ data                      # (kappas, 2, rows)
+    left = np.median(np.sum((data[None] - model @ coef) ** 2, axis=1), axis=1)
+    best = int(np.argmin(left))
+    c, s = _line_model(np.arange(n_bins), kappas[best : best + 1], length)
+    spec -= (coef[best, 0][:, None] * c + coef[best, 1][:, None] * s).astype(spec.dtype)
+    return float(kappas[best])
+
+
+def _hum_families(spec: np.ndarray, df: float) -> list[list[tuple[int, int]]]:
+    """Steady mains lines in the chunk spectra, as (harmonic number, FFT bin) per mains
+    family that counts (see the module notes)."""
     c_count = spec.shape[0]
     top = min(int(_HUM_TOP_HZ / df) + 1, spec.shape[1])
     span = int(round(_HUM_SPAN_HZ / df))
@@ -466,8 +535,12 @@ def _hum_lines(spec: np.ndarray, df: float) -> list[tuple[int, int]]:
         around = np.nanmedian(sliding_window_view(padded, 2 * span + 1), axis=1)
         excess_db = 10.0 * np.log10(steady / around)
     excess_db = np.nan_to_num(excess_db, nan=-np.inf, posinf=np.inf, neginf=-np.inf)
-    half = max(1, int(math.ceil(_NOTCH_HALF_WIDTH_HZ / df)))
-    lines: list[tuple[int, int]] = []
+    # A line must also carry a share of the chunk power that could matter (on a
+    # noise-free signal the spectrum between lines is at rounding level, and any bin
+    # would stand out from it).
+    total = float(np.median(np.sum(np.abs(spec) ** 2, axis=1)))
+    excess_db[steady < _HUM_MIN_SHARE * total] = -np.inf
+    families = []
     for mains in _MAINS_HZ:
         found = []
         for k in range(1, int(_HUM_TOP_HZ // mains) + 1):
@@ -480,8 +553,8 @@ def _hum_lines(spec: np.ndarray, df: float) -> list[tuple[int, int]]:
             if excess_db[peak] >= _HUM_LINE_DB:
                 found.append((k, peak))
         if any(k <= 2 for k, _ in found):
-            lines.extend((max(1, p - half), p + half + 1) for _, p in found)
-    return lines
+            families.append(found)
+    return families
 
 
 class VoiceReservoir:
@@ -628,13 +701,28 @@ class VoiceReservoir:
         log_f0 = np.full((c_count * t_count, _DIPS), np.nan)
         prob = np.zeros((c_count * t_count, _DIPS))
         if sel.size:
-            dn, _ = _cmnd(frames.reshape(c_count * t_count, length)[sel], w, tau_max)
+            dn, e0 = _cmnd(frames.reshape(c_count * t_count, length)[sel], w, tau_max)
             period, p = _dip_probabilities(dn, tau_min)
+            # A frame whose power was nearly all hum, rumble or out-of-band sound has no
+            # voice left to measure, only the remains of what was taken out.
+            with np.errstate(divide="ignore", invalid="ignore"):
+                kept_db = 10.0 * np.log10(e0 / w) - level.ravel()[sel]
+            p *= (kept_db >= -_REMOVED_MAX_DB)[:, None]
             with np.errstate(divide="ignore", invalid="ignore"):
                 log_f0[sel, : p.shape[1]] = np.log2(rate / period)
             prob[sel, : p.shape[1]] = p
-        path = _track(log_f0.reshape(c_count, t_count, -1), prob.reshape(c_count, t_count, -1))
+        log_f0 = log_f0.reshape(c_count, t_count, -1)
+        prob = prob.reshape(c_count, t_count, -1)
+        path = _track(log_f0, prob, math.log2(_FMIN_HZ), math.log2(_FMAX_HZ))
         v = 2.0 ** path[np.isfinite(path)]
+        if v.size >= _MIN_VOICED_FRAMES:
+            # Second pass: only dips within the talker's range found by the first.
+            q25, q75 = np.percentile(v, [25.0, 75.0])
+            lo, hi = math.log2(_RANGE_FLOOR * q25), math.log2(_RANGE_CEILING * q75)
+            with np.errstate(invalid="ignore"):
+                inside = (log_f0 >= lo) & (log_f0 <= hi)
+            path = _track(log_f0, np.where(inside, prob, 0.0), lo, hi)
+            v = 2.0 ** path[np.isfinite(path)]
         analysed = int(np.count_nonzero(loud.any(axis=1))) * self.chunk_length / fs
         if v.size < _MIN_VOICED_FRAMES:
             return VoiceResult(None, None, None, int(v.size), analysed)
