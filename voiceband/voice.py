@@ -8,20 +8,24 @@ Streaming: :class:`VoiceReservoir` keeps at most ``capacity_s`` (60 s) of the re
 0.5 s chunks, chosen evenly across the file among chunks loud enough to be speech, so
 memory is bounded whatever the file length.
 
-Estimator (in :meth:`VoiceReservoir.result`), per stored chunk:
+Estimator (in :meth:`VoiceReservoir.result`), on the stored chunks:
 
-1. *Analysis band.*  One FFT of the chunk gives, by keeping the bins below 4 kHz, the
-   chunk resampled to about 8 kHz (F0 and the harmonics that fix it lie far below 4 kHz),
-   band-limited to about 70-3500 Hz: a zero-phase 4th-order Butterworth high-pass
-   magnitude at 70 Hz takes away mains hum fundamentals and rumble (YIN follows the
-   period of the harmonics, so a voice whose fundamental is removed is still measured).
-2. *Mains lines.*  Hum is the one strictly periodic sound in a recording that stays the
-   same in every chunk; spoken F0 moves.  Spectral lines at multiples of 50 or 60 Hz
-   (up to 2 kHz) that stand 10 dB above the median spectrum within +-25 Hz, in the 20th
-   percentile of the chunk spectra (so present in at least 80 % of the chunks; 4 chunks
-   or more), are notched out (+-10 Hz), so hum cannot supply the period in pauses or
-   dominate it in speech.  A family counts only if its 1st or 2nd harmonic is such a
-   line; a perfectly steady tone at 100 or 120 Hz is therefore taken for hum.
+1. *Analysis band.*  One FFT of each chunk gives, by keeping the bins below 4 kHz, the
+   chunk resampled to about 8 kHz (F0 and the harmonics that fix it lie far below
+   4 kHz), band-limited to about 70-3500 Hz: a zero-phase 4th-order Butterworth
+   high-pass magnitude at 70 Hz takes away rumble and most of a 50/60 Hz hum
+   fundamental (YIN follows the period of the harmonics, so a voice whose fundamental is
+   missing, as on a 300-2700 Hz channel, is still measured).
+2. *Mains hum.*  Hum is the one strictly periodic sound that stays the same in every
+   chunk; spoken F0 moves.  Lines at multiples of 50 or 60 Hz (up to 2 kHz, +-0.5 %)
+   that stand 10 dB above the median within +-25 Hz in the 20th percentile of the chunk
+   spectra (present in at least 80 % of 4 or more chunks) and carry at least -60 dB of
+   the band power are hum, if the family's 1st or 2nd harmonic is among them (so a
+   perfectly steady tone at 100 or 120 Hz is taken for hum).  Each line is fitted per
+   chunk as a steady sinusoid (frequency refined off the bin grid) and subtracted, then
+   notched (+-10 Hz, smooth), so hum supplies no period in the pauses and does not
+   dominate it in the speech.  Frames that keep less than 3 % of their power in the
+   analysis band (nearly all hum, rumble or out-of-band sound) are unvoiced.
 3. *Periodicity.*  The YIN difference function and its cumulative-mean-normalised form
    (de Cheveigne & Kawahara, J. Acoust. Soc. Am. 111(4):1917-1930, 2002, eqs. 6-8) in
    32 ms windows every 10 ms, 50-500 Hz.
@@ -32,12 +36,13 @@ Estimator (in :meth:`VoiceReservoir.result`), per stored chunk:
    that, as in YIN, the first dip is preferred but later ones keep some weight; summing
    gives each dip a probability of being the period, and 1 minus their sum is the
    probability that the frame is unvoiced.  Frames at pause level (7 dB or more below
-   the speech threshold) are unvoiced.
+   the speech threshold given to :meth:`VoiceReservoir.result`) are unvoiced.
 5. *Tracking* by pYIN's hidden Markov model, on a 1/12-octave pitch grid with voiced and
    unvoiced copies of each pitch: F0 may move at most 0.36 octave per 10 ms frame
-   (35.92 octaves/s, librosa.pyin's default; from memory), voicing switches with probability 0.01, and the Viterbi
-   path chooses the dip per frame.  Continuity is what removes octave errors on
-   band-limited speech, where the 2nd harmonic often makes the deepest dip.
+   (librosa.pyin's default 35.92 octaves/s; from memory), voicing switches with
+   probability 0.01, and the Viterbi path picks the dip of each frame.  Continuity is
+   what removes most octave errors on band-limited speech, where the 2nd harmonic often
+   makes the deepest dip.
 6. *Talker range.*  The tracking is run again with only the dips between 0.75 x the
    first pass's lower quartile and 1.5 x its upper quartile (the two-pass floor and
    ceiling of De Looze & Hirst 2008), which removes the remaining octave jumps.
@@ -77,9 +82,10 @@ _MAX_STORED_SAMPLES = 1 << 22
 #: Gating at the speech threshold itself kept only the louder syllables, whose F0 is
 #: higher, and raised the median by up to 15 % on noisy or hummy synthetic speech.
 _PAUSE_BELOW_SPEECH_DB = 7.0
-#: A frame is unvoiced when the analysis band keeps less than this share of its power (dB):
-#: voiced speech has most of its power between 70 Hz and 3.5 kHz, even under strong hum.
-_REMOVED_MAX_DB = 20.0
+#: A frame is unvoiced when the analysis band keeps less than this share of its power
+#: (-15 dB, 3 %): voiced speech has most of its power between 70 Hz and 3.5 kHz, even
+#: under strong hum, while a pause keeps only what is left of the hum taken out.
+_REMOVED_MAX_DB = 15.0
 #: Lowest rate at which F0 is estimated (Hz); chunks are resampled to just above it.
 _F0_RATE_HZ = 8000.0
 #: F0 search range of the reservoir (Hz): adult speech including shouting.
@@ -378,7 +384,7 @@ def _track(log_f0: np.ndarray, prob: np.ndarray, lo: float, hi: float) -> np.nda
     ndarray, shape (C, T)
         log2 F0 of the Viterbi path, NaN where the path is unvoiced.
     """
-    c_count, t_count, k_count = prob.shape
+    c_count, t_count, _ = prob.shape
     n_bins = int(math.ceil((hi - lo) / _GRID_OCT)) + 1
     b = np.clip(np.round((np.nan_to_num(log_f0, nan=lo) - lo) / _GRID_OCT).astype(np.int64), 0, n_bins - 1)
     flat = (np.arange(c_count * t_count).reshape(c_count, t_count, 1) * n_bins + b).ravel()
