@@ -1,12 +1,16 @@
 """Clipping: the clip level (also below full scale), clipped samples and clip events.
 
-A clipped waveform sits on a flat ceiling: runs of consecutive, exactly equal
-samples at the signal's extreme value, and an amplitude histogram whose tail
-ends in a spike at that value instead of thinning out smoothly.  Both cues are
-used, separately for the positive and the negative extreme, so clipping is found
-whether it happened at full scale, in an earlier stage whose output was then
-turned down (clip level below full scale), or on one polarity only (an electret
-capsule or preamplifier clipping asymmetrically).
+A clipped waveform sits on a flat ceiling: runs of consecutive samples at the
+signal's extreme value, and an amplitude histogram whose tail ends in a spike
+at that value instead of thinning out smoothly.  Both cues are used, separately
+for the positive and the negative extreme, so clipping is found whether it
+happened at full scale, in an earlier stage whose output was then turned down
+(clip level below full scale), or on one polarity only (an electret capsule or
+preamplifier clipping asymmetrically).  The ceiling may be exactly flat
+(clipping in the digital domain, or in the last analogue stage before the
+converter) or flat only to within noise added after the clipping stage (a
+microphone amplifier or speech processor clipping, then later amplifier stages
+and the recorder's converter adding their noise).
 
 Method
 ------
@@ -43,19 +47,67 @@ For each polarity, over the whole recording:
 4. The highest level passing the test is the polarity's clip level.  Every
    sample in its histogram bin counts as clipped; its runs, merged when closer
    than ``merge_gap_s``, are the clip events.
+5. **Noisy ceilings.**  Noise added after the clipping stage spreads the
+   ceiling into a bump of the histogram as wide as the noise.  The test of
+   step 3 is repeated with a window of half-width ``h`` bins in place of the
+   single bin, for ``h`` from 4 bins to 2 % of the level in steps of sqrt(2)
+   (windows at least two quantisation steps wide and holding at least 8
+   distinct occupied bins), at every position within the search region.
+   ``P`` is the window's count; ``B`` is the largest count of a window of the
+   same width anywhere in the band four window-widths deep just below it
+   (half-overlapping windows).  By the sqrt law the top window of a smooth
+   maximum holds ``1 / (sqrt(2) - 1) = 2.4`` times the window below it; a
+   sine's arcsine peak, the worst case, reaches that.  Taking the largest
+   window of the band rather than the adjacent one keeps the comparison fair
+   for a periodic signal locked to the sample rate, which repeats a few
+   values, each a bump of its own.  A window passes when
+   ``P / (B + 1) > 4``, ``P >= 20``, and at most ``P / 4`` samples lie above
+   it (a ceiling is the top of its distribution: of a periodic signal's
+   bumps only the top one has nothing above it).  The passing window with the
+   largest ratio gives the ceiling: its level ``c`` is the median of the
+   samples in the window, and the noise's standard deviation ``s`` is read
+   from the ceiling's upper side, where only the noise spreads the samples
+   (the 68.3rd percentile of ``x - c`` over the samples at or above ``c``:
+   half-normal).  A sample counts as clipped when it lies at or beyond
+   ``c - 3 s`` (a three-sigma tolerance, common practice; at least one
+   quantisation step); at most a tenth as many may lie beyond ``c + 5 s``; a
+   clip run is a run of at least ``min_run_samples`` consecutive clipped
+   samples, at least two are required (a periodic signal's top value recurs
+   as isolated samples), and runs merged across gaps shorter than
+   ``merge_gap_s`` are the clip events.  The noisy ceiling is the answer when
+   step 4 finds no level, or finds one inside the ceiling's tolerance holding
+   less than 1/1.1 of the ceiling's samples (noise of about one quantisation
+   step leaves many clipped samples exactly equal and spreads the rest over
+   the neighbouring values).  Noise up to about 0.6 % RMS of the clip level
+   (45 dB below it) is handled with a margin; from about 1 % (40 dB) the
+   ceiling is lost in the signal below it.
+
+Streaming: per polarity the fine histogram of the top ``search_db`` + 2 dB is
+kept, and for step 5 the morphological opening of the samples by a
+``min_run_samples``-sample window (the highest bin at or above which the
+sample lies in a run of ``min_run_samples`` samples), followed down to 95 % of
+the search region's bottom.  Run starts and event starts are accumulated as
+difference histograms over that bin, so that the run and event counts are
+exact for a threshold decided at the end; the samples of candidate runs are
+kept only until the first ``max_events`` events at every threshold still
+possible are complete (and at most 2**20 of them per polarity, beyond which
+the listed events of a noisy ceiling may be cut short; counts stay exact).
 
 A square wave or a constant signal sits on its extreme values and is reported
 as clipped.  Soft (analogue) clipping, or clipping followed by filtering or
-lossy coding, leaves no flat top and is not detected by this method.  Quantised
-audio re-scaled in floating point (off every PCM grid) is taken as continuous;
-at very low levels its quantisation steps could then pass for a flat top
-(give ``quantization_step`` to avoid that).
+lossy coding, leaves no flat top and is not detected by this method: even a
+gentle first-order 100 Hz high-pass after the clipper tilts a 1 ms plateau by
+tens of percent.  Quantised audio re-scaled in floating point (off every PCM
+grid) is taken as continuous; at very low levels its quantisation steps could
+then pass for a flat top (give ``quantization_step`` to avoid that).
 
 References
 ----------
 A. Aleinik, Y. Matveev, "Detection of clipped fragments in speech signals",
 Int. J. Electrical, Computer, Energetic, Electronic and Communication
 Engineering 8(2), 2014 (amplitude-histogram tail spikes).
+J. Serra, *Image Analysis and Mathematical Morphology*, Academic Press, 1982
+(opening by a flat structuring element; from memory).
 """
 
 from __future__ import annotations
@@ -92,6 +144,36 @@ _MIN_CLIPPED = 4
 _CHUNK = 1 << 15
 # Candidate levels kept per polarity (the highest ones).
 _MAX_LEVELS = 16
+# Step 5 (noisy ceilings): window half-widths in bins (4 bins to 2 %, steps of sqrt 2), the
+# depth of the band below in window widths, the least window in quantisation steps, the
+# least count in the window, and the tolerance in noise standard deviations.
+_NOISY_HALF_BINS = tuple(sorted({int(round(4 * 2 ** (j / 2))) for j in range(17)}))
+_NOISY_BAND_WINDOWS = 4
+_NOISY_MIN_STEPS = 2.0
+_NOISY_MIN_CLIPPED = 20
+# Least number of distinct occupied bins in the window: the sqrt law needs a continuum of
+# values, not the few values a periodic signal locked to the sample rate repeats.
+_NOISY_MIN_VALUES = 8
+_TOL_SIGMAS = 3.0
+# A noisy ceiling replaces an exactly equal level it contains when it holds this many times
+# the samples of that level's bin.
+_SPREAD_SHARE = 1.1
+# A ceiling is the top of its polarity's distribution: samples above the window may be at most
+# this share of the window's count, and samples above c + 5 s this share of the clipped ones
+# (a periodic signal repeats each of its values; with noise, every one is a bump of the
+# histogram, but only the top one has nothing above it).
+_NOISY_ABOVE_SHARE = 0.25
+_CEILING_SIGMAS = 5.0
+_NOISY_ABOVE_SHARE_FINAL = 0.1
+# Fraction of a half-normal distribution within one standard deviation (Q(1) = 0.1587).
+_HALF_NORMAL_1SIGMA = 0.6827
+# Run levels are followed down to this fraction of the search region's bottom (room for the
+# tolerance below a ceiling at the bottom of the region).
+_RUN_ROOM = 0.95
+# Samples of candidate runs kept per polarity for listing noisy events.
+_STORE_MAX = 1 << 20
+_NONE = np.iinfo(np.int64).min // 4  # "below every bin"
+_EMPTY = np.zeros(0, dtype=np.int64)
 
 
 @dataclass(frozen=True)
@@ -166,8 +248,9 @@ class ClippingResult:
     method: str
 
 
-_METHOD = ("runs of >= {runs} equal samples at a level within {db:g} dB of each polarity's extreme, "
-           "confirmed by a spike at that level in the amplitude histogram's tail (after Aleinik & Matveev)")
+_METHOD = ("runs of >= {runs} samples at a level within {db:g} dB of each polarity's extreme (exactly equal, "
+           "or within 3 noise standard deviations of a noisy ceiling), confirmed by a spike at that level "
+           "in the amplitude histogram's tail (after Aleinik & Matveev)")
 
 
 def _bin_of(v: np.ndarray) -> np.ndarray:
@@ -231,6 +314,97 @@ class _LevelRuns:
             self.ep_samples = 0
 
 
+def _opening(s: np.ndarray, a: np.ndarray, m: int) -> np.ndarray:
+    """Opening of the values ``a`` (histogram bins) at sorted sample indices ``s`` by an ``m``-sample window.
+
+    Entry k is the largest minimum over the windows of ``m`` consecutive sample indices, all
+    present in ``s``, that contain ``s[k]`` (``_NONE`` when there is none): the highest bin at
+    or above which sample ``s[k]`` lies in a run of at least ``m`` samples.
+    """
+    n = s.size
+    r = np.full(n, _NONE, dtype=np.int64)
+    if n < m:
+        return r
+    w = a[: n - m + 1].copy()
+    for j in range(1, m):
+        np.minimum(w, a[j: n - m + 1 + j], out=w)
+    w[s[m - 1:] - s[: n - m + 1] != m - 1] = _NONE  # the window has a gap
+    for j in range(m):
+        np.maximum(r[j: n - m + 1 + j], w, out=r[j: n - m + 1 + j])
+    return r
+
+
+def _add_steps(d: np.ndarray, lower: np.ndarray, upper: np.ndarray, base: int) -> None:
+    """Count +1 for every threshold bin b with ``lower < b <= upper`` in the difference histogram ``d``."""
+    lo = np.maximum(lower + 1 - base, 0)
+    hi = upper + 1 - base
+    if lo.size > 256:
+        d += np.bincount(lo, minlength=d.size)[: d.size]
+        d -= np.bincount(hi, minlength=d.size)[: d.size]
+    else:
+        np.add.at(d, lo, 1)
+        np.add.at(d, hi, -1)
+
+
+def _range_max(a: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
+    """``max(a[lo[i]:hi[i]])`` for every i (``_NONE`` where the range is empty)."""
+    out = np.full(lo.size, _NONE, dtype=np.int64)
+    has = lo < hi
+    if has.any():
+        idx = np.empty(2 * int(has.sum()), dtype=np.int64)
+        idx[0::2], idx[1::2] = lo[has], hi[has]
+        out[has] = np.maximum.reduceat(a, idx)[0::2]
+    return out
+
+
+def _window_max(pos: np.ndarray, val: np.ndarray, first: int, span: int) -> np.ndarray:
+    """For entries k >= ``first``: the largest ``val[j]`` with ``pos[k] - span <= pos[j] < pos[k]``.
+
+    ``pos`` is sorted.  The answer is exact where it is below ``val[k]``; elsewhere it is only
+    some value at least ``val[k]``; ``_NONE`` where no entry lies in the span.  Most entries are
+    settled by a lower bound (the entry before, when consecutive, and the maximum of the
+    previous run of consecutive positions, when all of it lies in the span); the rest by range
+    maxima over the part of a run where the span starts, the whole runs after it, and the own
+    run's earlier entries.
+    """
+    n = pos.size
+    if n - first <= 64:  # few entries: all pairs at once
+        inside = (pos[None, :] >= pos[first:, None] - span) & (np.arange(n)[None, :] < np.arange(first, n)[:, None])
+        return np.where(inside, val[None, :], _NONE).max(axis=1, initial=_NONE)
+    brk = np.ones(n, dtype=bool)
+    brk[1:] = pos[1:] - pos[:-1] != 1
+    starts = np.flatnonzero(brk)
+    ends = np.append(starts[1:], n)
+    seg = np.repeat(np.arange(starts.size), ends - starts)
+    seg_max = np.maximum.reduceat(val, starts)
+    vk = val[first:]
+    before = np.empty(vk.size, dtype=np.int64)
+    before[0] = val[first - 1] if first > 0 else _NONE
+    before[1:] = val[first:n - 1]
+    bound = np.where(brk[first:], _NONE, before)
+    cand = np.flatnonzero(bound < vk)
+    if cand.size == 0:
+        return bound
+    kc = cand + first
+    pr = np.maximum(seg[kc] - 1, 0)
+    inside = (seg[kc] > 0) & (pos[starts[pr]] >= pos[kc] - span)
+    bound[cand[inside]] = np.maximum(bound[cand[inside]], seg_max[pr[inside]])
+    todo = cand[bound[cand] < vk[cand]]
+    if todo.size:
+        kt = todo + first
+        lo = np.searchsorted(pos, pos[kt] - span, side="left")
+        sl, sk = seg[lo], seg[kt]
+        one = sl == sk
+        exact = np.where(one, _range_max(val, lo, kt), _NONE)
+        two = ~one
+        if two.any():
+            l2, k2, a2, b2 = lo[two], kt[two], sl[two], sk[two]
+            part = np.maximum(_range_max(val, l2, ends[a2]), _range_max(val, starts[b2], k2))
+            exact[two] = np.maximum(part, _range_max(seg_max, a2 + 1, b2))
+        bound[todo] = exact
+    return bound
+
+
 class _Side:
     """Streaming state of one polarity."""
 
@@ -245,6 +419,22 @@ class _Side:
         # index into _PCM_GRID_BITS of the coarsest grid all examined values lie on
         # (len(_PCM_GRID_BITS) when they lie on none: continuous values)
         self.grid = 0
+        # Step 5: difference histograms over the opening's bin of run starts and event starts
+        # (index n_bins takes the ends above the top bin), the last sample given an opening
+        # level (global index, bin), the samples of the last merge gap with theirs, and the
+        # samples kept for listing events.
+        self.d_run = np.zeros(n_bins + 1, dtype=np.int64)
+        self.d_event = np.zeros(n_bins + 1, dtype=np.int64)
+        self.last = (-2, 0)
+        self.gap_pos = np.zeros(0, dtype=np.int64)
+        self.gap_bin = np.zeros(0, dtype=np.int64)
+        self.kept_pos: list[np.ndarray] = []
+        self.kept_bin: list[np.ndarray] = []
+        self.kept = 0
+        # (extreme, lowest bin followed by the opening) and the lowest threshold bin whose
+        # first max_events events may not be complete (None: to be recomputed)
+        self.floor = (0.0, 0)
+        self.open_bin: Optional[int] = None
 
     def grid_step(self) -> float:
         """Quantisation step of the examined values: 2**-bits of a PCM grid they lie on, else 0."""
@@ -260,11 +450,16 @@ class _Side:
             self.grid += 1
 
     def copy(self) -> "_Side":
-        c = _Side(self.n_bins)
+        c = _Side.__new__(_Side)
+        c.n_bins = self.n_bins
         c.extreme, c.base, c.grid = self.extreme, self.base, self.grid
         c.hist = self.hist.copy()
         c.levels = {b: lv.copy() for b, lv in self.levels.items()}
         c.open = self.open
+        c.d_run, c.d_event = self.d_run.copy(), self.d_event.copy()
+        c.floor, c.open_bin = self.floor, self.open_bin
+        c.last, c.gap_pos, c.gap_bin = self.last, self.gap_pos, self.gap_bin
+        c.kept_pos, c.kept_bin, c.kept = list(self.kept_pos), list(self.kept_bin), self.kept
         return c
 
     def raise_extreme(self, extreme: float) -> None:
@@ -279,10 +474,31 @@ class _Side:
             else:
                 self.hist[:-shift] = self.hist[shift:]
                 self.hist[-shift:] = 0
+            for d in (self.d_run, self.d_event):
+                # A count at a threshold is a cumulative sum: fold the dropped bins into the new first.
+                if shift >= self.n_bins:
+                    d[:] = 0
+                else:
+                    folded = int(d[: shift + 1].sum())
+                    d[:-shift] = d[shift:]
+                    d[-shift:] = 0
+                    d[0] = folded
             for b in [b for b in self.levels if b < base]:
                 del self.levels[b]
         self.base = max(base, self.base) if self.extreme else base
         self.extreme = extreme
+
+
+@dataclass(frozen=True)
+class _Found:
+    """What one polarity's decision found (internal)."""
+
+    level: float
+    clipped: int
+    runs: int
+    events: int
+    listed: list  # (first sample, one past the last sample, clipped samples)
+    tol: float = 0.0  # tolerance below the level (noisy ceilings)
 
 
 class ClippingAccumulator:
@@ -296,7 +512,7 @@ class ClippingAccumulator:
         Clip levels are searched within this many dB below each polarity's
         extreme sample (default 1.0).
     min_run_samples : int, optional
-        Shortest run of equal samples counted as a clip run (default 3, at least 2).
+        Shortest run of clipped samples counted as a clip run (default 3, at least 2).
     merge_gap_s : float, optional
         Runs of one polarity closer than this are one event (default 0.05 s:
         the runs on successive pitch periods of a clipped vowel make one event).
@@ -311,7 +527,7 @@ class ClippingAccumulator:
     Feed consecutive 1-D blocks with :meth:`update`; :meth:`result` does not
     change the accumulator.  Results do not depend on how the signal is cut into
     blocks; memory is bounded (16 candidate levels per polarity, ``max_events``
-    listed events each).
+    listed events each, and at most 2**20 kept samples of candidate noisy runs).
     """
 
     def __init__(self, sample_rate_hz: float, *, search_db: float = 1.0, min_run_samples: int = 3,
@@ -333,6 +549,7 @@ class ClippingAccumulator:
         self._fs = fs
         self._search_db = float(search_db)
         self._region = 10.0 ** (-self._search_db / 20.0)  # bottom of the region re the extreme
+        self._run_region = self._region * _RUN_ROOM  # noisy run levels are followed down to here
         self._min_run = int(min_run_samples)
         self._merge_gap_s = float(merge_gap_s)
         self._gap = int(round(self._merge_gap_s * fs))
@@ -342,6 +559,9 @@ class ClippingAccumulator:
         n_bins = int(math.ceil(-math.log2(self._hist_region) * _BINS_PER_OCTAVE)) + 4
         self._sides = (_Side(n_bins), _Side(n_bins))
         self._n = 0
+        # the last samples of the stream: the opening of the last min_run - 1 ones waits for more
+        self._tail = np.zeros(0)
+        self._tail_len = 2 * self._min_run - 2
 
     def update(self, block) -> None:
         """Add the next block of samples (1-D, full scale = ±1.0).
@@ -380,6 +600,7 @@ class ClippingAccumulator:
         self._side_update(self._sides[0], x, hi, hi_c, +1)
         self._side_update(self._sides[1], x, -lo, -lo_c, -1)
         self._n += n
+        self._tail = np.concatenate((self._tail, x[-self._tail_len:]))[-self._tail_len:]
 
     def _side_update(self, side: _Side, x: np.ndarray, block_extreme: float, chunk_extremes: np.ndarray,
                      sign: int) -> None:
@@ -393,6 +614,7 @@ class ClippingAccumulator:
         thr = side.extreme * self._hist_region
         if block_extreme < thr:
             self._flush_open(side)
+            self._noisy_update(side, _EMPTY, _EMPTY, sign, g0 + n - self._min_run)
             return
         parts = []
         for i in np.flatnonzero(chunk_extremes >= thr):
@@ -410,6 +632,7 @@ class ClippingAccumulator:
             side.hist += np.bincount(bins - side.base, minlength=side.n_bins)[:side.n_bins]
         else:
             np.add.at(side.hist, bins - side.base, 1)
+        self._noisy_update(side, idx + g0, bins, sign, g0 + n - self._min_run)
 
         # Runs of exactly equal, consecutive samples.
         brk = np.ones(idx.size + 1, dtype=bool)
@@ -434,6 +657,68 @@ class ClippingAccumulator:
             side.open = (float(run_val[-1]), int(run_idx[-1]), int(lengths[-1]))
             run_idx, lengths, run_val, run_bin = run_idx[:-1], lengths[:-1], run_val[:-1], run_bin[:-1]
         self._finish(side, run_idx, lengths, run_val, run_bin)
+
+    def _noisy_update(self, side: _Side, pos: np.ndarray, bins: np.ndarray, sign: int, last: int) -> None:
+        """Step 5 bookkeeping for the samples ``pos`` (global, this block) in histogram bins ``bins``.
+
+        The opening is final for samples up to global index ``last``; it is computed here for
+        those after the previous call's ``last`` (the stream's last samples wait in the tail).
+        """
+        first = self._n - self._min_run + 1  # first sample not final after the previous call
+        if last < max(first, 0):
+            return
+        if side.floor[0] != side.extreme:
+            side.floor = (side.extreme, int(_bin_of(np.array([side.extreme * self._run_region]))[0]))
+            side.open_bin = None
+        floor = side.floor[1]
+        m = self._tail.size
+        tv = self._tail if sign > 0 else -self._tail
+        tsel = np.flatnonzero(tv >= side.extreme * self._run_region * (1.0 - 4.0 * _BIN_REL))
+        tb = _bin_of(tv[tsel])
+        tkeep = tb >= floor
+        keep = bins >= floor
+        if not tkeep.any():
+            if not keep.any():
+                return
+            s, a = pos[keep], bins[keep]
+        else:
+            s = np.concatenate((tsel[tkeep] + (self._n - m), pos[keep]))
+            a = np.concatenate((tb[tkeep], bins[keep]))
+        r = _opening(s, a, self._min_run)
+        sel = (s >= first) & (s <= last) & (r >= floor)
+        if not sel.any():
+            return
+        p = s[sel]
+        rb = r[sel]
+        # Run starts: sample p starts a run at every threshold in (opening of p - 1, opening of p].
+        prev = np.empty(p.size, dtype=np.int64)
+        prev[0] = side.last[1] if side.last[0] == p[0] - 1 else _NONE
+        prev[1:] = np.where(p[1:] - p[:-1] == 1, rb[:-1], _NONE)
+        up = prev < rb
+        _add_steps(side.d_run, prev[up], rb[up], side.base)
+        side.last = (int(p[-1]), int(rb[-1]))
+        # Event starts: thresholds above the highest opening within the merge gap before p.
+        gp = np.concatenate((side.gap_pos, p))
+        gb = np.concatenate((side.gap_bin, rb))
+        w = _window_max(gp, gb, side.gap_pos.size, self._gap + 1)
+        new = w < rb
+        # Keep samples for listing at every threshold whose first max_events events may not
+        # be complete yet (counts before this block's events).
+        if self._max_events > 0 and side.kept < _STORE_MAX:
+            if side.open_bin is None:
+                counts = np.cumsum(side.d_event[:side.n_bins])[floor - side.base:]
+                open_ = np.flatnonzero(counts <= self._max_events)
+                side.open_bin = floor + int(open_[0]) if open_.size else side.base + side.n_bins
+            k = np.flatnonzero(rb >= side.open_bin)[: _STORE_MAX - side.kept]
+            if k.size:
+                side.kept_pos.append(p[k])
+                side.kept_bin.append(rb[k])
+                side.kept += k.size
+        if new.any():
+            _add_steps(side.d_event, w[new], rb[new], side.base)
+            side.open_bin = None
+        tail = gp >= last - self._gap
+        side.gap_pos, side.gap_bin = gp[tail], gb[tail]
 
     def _flush_open(self, side: _Side) -> None:
         if side.open is not None:
@@ -476,28 +761,28 @@ class ClippingAccumulator:
         if n == 0:
             raise SignalValueError("No samples were given, so clipping cannot be measured.")
         found = []
-        for side in self._sides:
+        for side, sign in zip(self._sides, (1, -1)):
             s = side.copy()
             self._flush_open(s)
+            if s.extreme > 0.0:
+                self._noisy_update(s, _EMPTY, _EMPTY, sign, n - 1)
             found.append(self._decide(s))
         events = []
         clipped = 0
         event_count = 0
         run_count = 0
         levels = []
-        for sign, lv in zip((1, -1), found):
-            if lv is None:
+        for sign, f in zip((1, -1), found):
+            if f is None:
                 levels.append(None)
                 continue
-            bin_count, level = lv
-            levels.append(level.value)
-            clipped += bin_count
-            level.close(self._max_events)
-            event_count += level.closed
-            run_count += level.runs
-            for st, en, k in level.listed:
+            levels.append(f.level)
+            clipped += f.clipped
+            event_count += f.events
+            run_count += f.runs
+            for st, en, k in f.listed:
                 events.append(ClipEvent(start_s=st / self._fs, duration_s=(en - st) / self._fs,
-                                        polarity="+" if sign > 0 else "-", level=sign * level.value,
+                                        polarity="+" if sign > 0 else "-", level=sign * f.level,
                                         clipped_samples=int(k)))
         listed = sorted(events, key=lambda e: e.start_s)[: self._max_events]
         present = [v for v in levels if v is not None]
@@ -517,7 +802,23 @@ class ClippingAccumulator:
             method=_METHOD.format(runs=self._min_run, db=self._search_db),
         )
 
-    def _decide(self, side: _Side) -> Optional[tuple[int, _LevelRuns]]:
+    def _decide(self, side: _Side) -> Optional[_Found]:
+        """The polarity's clip level: exactly equal runs (steps 2-4), else a noisy ceiling (step 5)."""
+        exact = self._decide_exact(side)
+        noisy = self._decide_noisy(side)
+        if exact is not None:
+            p, lv = exact
+            # Noise of about one quantisation step leaves many clipped samples exactly equal but
+            # spreads the rest over the neighbouring values: then the noisy ceiling is the answer.
+            if noisy is None or abs(noisy.level - lv.value) > noisy.tol or noisy.clipped < _SPREAD_SHARE * p:
+                lv.close(self._max_events)
+                return _Found(level=lv.value, clipped=p, runs=lv.runs, events=lv.closed, listed=lv.listed)
+        return noisy
+
+    def _step(self, side: _Side) -> float:
+        return self._q if self._q is not None else side.grid_step()
+
+    def _decide_exact(self, side: _Side) -> Optional[tuple[int, _LevelRuns]]:
         """The highest candidate level passing the tail-spike test, with its bin count."""
         if side.extreme <= 0.0 or not side.levels:
             return None
@@ -533,8 +834,7 @@ class ClippingAccumulator:
             if p < _MIN_CLIPPED:
                 continue
             # Relative value resolution: the quantisation step, given or detected.
-            step = self._q if self._q is not None else side.grid_step()
-            eps = max(_BIN_REL, step / lv.value)
+            eps = max(_BIN_REL, self._step(side) / lv.value)
             w = max(_BAND_MIN_REL, _BAND_PER_EPS * eps)
             j = int(math.ceil(-math.log2(1.0 - w) * _BINS_PER_OCTAVE)) if w < 1.0 else k + 1
             if j > k - floor:
@@ -543,6 +843,77 @@ class ClippingAccumulator:
             if p / (band + 1.0) > _SPIKE_FACTOR * math.sqrt(eps / w):
                 return p, lv
         return None
+
+    def _decide_noisy(self, side: _Side) -> Optional[_Found]:
+        """Step 5: the strongest windowed tail spike, its noise spread, and runs within tolerance."""
+        if side.extreme <= 0.0:
+            return None
+        hist = side.hist
+        nb = side.n_bins
+        top = int(_bin_of(np.array([side.extreme]))[0]) - side.base
+        lowest = int(_bin_of(np.array([side.extreme * self._region]))[0]) - side.base
+        step = self._step(side)
+        step_bins = step / (side.extreme * self._region) / _BIN_REL
+        cum = np.concatenate(([0], np.cumsum(hist)))
+        occ = np.concatenate(([0], np.cumsum(hist > 0)))
+        best = (1.0, -1, 0)
+        for h in _NOISY_HALF_BINS:
+            width = 2 * h + 1
+            if width < _NOISY_MIN_STEPS * step_bins:
+                continue
+            # Window counts centred on every bin; the band below is tiled by half-overlapping
+            # windows reaching _NOISY_BAND_WINDOWS window-widths down.
+            n_sub = 2 * _NOISY_BAND_WINDOWS - 1
+            k = np.arange(max(lowest, width + (n_sub - 1) * (width // 2) + h), top + 1)
+            if k.size == 0:
+                continue
+            centres = np.arange(nb)
+            count = cum[np.minimum(centres + h + 1, nb)] - cum[np.maximum(centres - h, 0)]
+            p = count[k]
+            b = count[k - width]
+            for i in range(1, n_sub):
+                np.maximum(b, count[k - width - i * (width // 2)], out=b)
+            ratio = p / ((b + 1.0) * _SPIKE_FACTOR)
+            hi_k = np.minimum(k + h + 1, nb)
+            above = cum[nb] - cum[hi_k]
+            ratio[(p < _NOISY_MIN_CLIPPED) | (occ[hi_k] - occ[k - h] < _NOISY_MIN_VALUES)
+                  | (above > _NOISY_ABOVE_SHARE * p)] = 0.0
+            i = int(np.argmax(ratio))
+            if ratio[i] > best[0]:
+                best = (float(ratio[i]), int(k[i]), h)
+        if best[1] < 0:
+            return None
+        _, k, h = best
+        # Ceiling level: median of the window; noise spread from the samples above it.
+        lo_k, hi_k = k - h, min(k + h + 1, nb)
+        c_bin = lo_k + int(np.searchsorted(np.cumsum(hist[lo_k:hi_k]), 0.5 * cum[hi_k] - 0.5 * cum[lo_k]))
+        level = float(2.0 ** ((side.base + c_bin + 0.5) / _BINS_PER_OCTAVE))
+        above = np.cumsum(hist[c_bin:])
+        s_bin = c_bin + int(np.searchsorted(above, _HALF_NORMAL_1SIGMA * above[-1]))
+        sigma = float(2.0 ** ((side.base + s_bin + 0.5) / _BINS_PER_OCTAVE)) - level
+        tol = max(_TOL_SIGMAS * sigma, step, 2.0 * _BIN_REL * level)
+        thr = max(level - tol, side.extreme * self._run_region)
+        t_bin = int(_bin_of(np.array([thr]))[0])
+        j = t_bin - side.base
+        runs = int(side.d_run[: j + 1].sum())
+        clipped = int(hist[j:].sum())
+        u = int(_bin_of(np.array([level + max(_CEILING_SIGMAS * sigma, tol)]))[0]) - side.base
+        above = int(hist[u + 1:].sum()) if u + 1 < nb else 0
+        if runs < _MIN_RUNS or above > _NOISY_ABOVE_SHARE_FINAL * clipped:
+            return None
+        events = int(side.d_event[: j + 1].sum())
+        listed = []
+        if side.kept:
+            pos = np.concatenate(side.kept_pos)
+            q = pos[np.concatenate(side.kept_bin) >= t_bin]
+            if q.size:
+                new = np.ones(q.size, dtype=bool)
+                new[1:] = q[1:] - q[:-1] - 1 > self._gap
+                first = np.flatnonzero(new)
+                last = np.append(first[1:], q.size) - 1
+                first, last = first[: self._max_events], last[: self._max_events]
+                listed = list(zip(q[first].tolist(), (q[last] + 1).tolist(), (last - first + 1).tolist()))
+        return _Found(level=level, clipped=clipped, runs=runs, events=events, listed=listed, tol=level - thr)
 
 
 def measure_clipping(x, sample_rate_hz: float, **options) -> ClippingResult:
