@@ -326,8 +326,8 @@ def _dip_probabilities(dn: np.ndarray, tau_min: int) -> tuple[np.ndarray, np.nda
     With the dips' heights sorted, ``g_1 <= g_2 <= ...``, a threshold between ``g_k`` and
     ``g_{k+1}`` (probability ``F(g_{k+1}) - F(g_k)`` under the Beta prior ``F``) has the
     ``k`` lowest dips below it; among those the dip of order ``j`` by lag gets the
-    Boltzmann weight ``exp(-c j) / sum_i exp(-c i)`` (``c = _BOLTZMANN``).  Thresholds below every dip
-    (``F(g_1)``) give 1 % of their mass to the lowest dip.  This is pYIN's sum over a
+    Boltzmann weight ``exp(-c j) / sum_i exp(-c i)`` (``c = _BOLTZMANN``).  Thresholds
+    below every dip (``F(g_1)``) give 1 % of their mass to the lowest dip.  This is pYIN's sum over a
     threshold grid taken in the limit of a fine grid.
     """
     n = dn.shape[0]
@@ -492,7 +492,10 @@ def _dirichlet(m: np.ndarray, length: int) -> np.ndarray:
 
 
 def _line_model(k: np.ndarray, kappa: np.ndarray, length: int) -> tuple[np.ndarray, np.ndarray]:
-    """DFTs at bins ``k`` of ``cos`` and ``sin`` at the fractional bins ``kappa``: shape (len(kappa), len(k))."""
+    """DFTs at bins ``k`` of ``cos`` and ``sin`` at the fractional bins ``kappa``.
+
+    Both have shape ``(len(kappa), len(k))``.
+    """
     m = k[None, :] - kappa[:, None]
     d_pos, d_neg = _dirichlet(m, length), _dirichlet(k[None, :] + kappa[:, None], length)
     return 0.5 * (d_pos + d_neg), (d_pos - d_neg) / 2j
@@ -515,7 +518,9 @@ def _remove_line(spec: np.ndarray, kappa: float, length: int, *, refine: bool) -
     data = np.concatenate((spec[:, near].real, spec[:, near].imag), axis=1).T.astype(np.float64)
     kappas = kappa + np.linspace(-0.5, 0.5, 21) if refine else np.array([kappa])
     c, s = _line_model(near, kappas, length)
-    model = np.stack((np.concatenate((c.real, c.imag), axis=1), np.concatenate((s.real, s.imag), axis=1)), axis=2)
+    model = np.stack(
+        (np.concatenate((c.real, c.imag), axis=1), np.concatenate((s.real, s.imag), axis=1)), axis=2
+    )                                                        # (kappas, 2 * bins, 2)
     coef = np.linalg.pinv(model) @ data                      # (kappas, 2, rows)
     left = np.median(np.sum((data[None] - model @ coef) ** 2, axis=1), axis=1)
     best = int(np.argmin(left))
@@ -684,7 +689,8 @@ class VoiceReservoir:
         gate = -math.inf if min_level_dbfs is None else float(min_level_dbfs) - _PAUSE_BELOW_SPEECH_DB
         floor = self._max_level - _ELIGIBLE_BELOW_MAX_DB
         # Chunks in priority order, so the result does not depend on storage slots.
-        slots = [j for j in sorted(range(len(self._prio)), key=self._prio.__getitem__) if self._level[j] >= floor]
+        order = sorted(range(len(self._prio)), key=self._prio.__getitem__)
+        slots = [j for j in order if self._level[j] >= floor]
         if not slots:
             return VoiceResult(None, None, None, 0, 0.0)
         chunks = self._store[slots]
