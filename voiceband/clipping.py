@@ -90,14 +90,15 @@ the search region's bottom.  Run starts and event starts are accumulated as
 difference histograms over that bin, so that the run and event counts are
 exact for a threshold decided at the end; the samples of candidate runs are
 kept only until the first ``max_events`` events at every threshold still
-possible are complete (and at most 2**20 of them per polarity, beyond which
-the listed events of a noisy ceiling may be cut short; counts stay exact).
+possible are complete (and at most 2**19 of them per polarity, beyond which
+fewer events of a noisy ceiling may be listed; counts stay exact).
 
 A square wave or a constant signal sits on its extreme values and is reported
 as clipped.  Soft (analogue) clipping, or clipping followed by filtering or
-lossy coding, leaves no flat top and is not detected by this method: even a
-gentle first-order 100 Hz high-pass after the clipper tilts a 1 ms plateau by
-tens of percent.  Quantised audio re-scaled in floating point (off every PCM
+lossy coding, leaves no flat top and is not detected by this method: a
+first-order high-pass after the clipper makes each plateau decay with the time
+constant 1/(2 pi f_c), by 6 % in a millisecond at 10 Hz and 47 % at 100 Hz, far
+more than the noise spreads it.  Quantised audio re-scaled in floating point (off every PCM
 grid) is taken as continuous; at very low levels its quantisation steps could
 then pass for a flat top (give ``quantization_step`` to avoid that).
 
@@ -171,7 +172,7 @@ _HALF_NORMAL_1SIGMA = 0.6827
 # tolerance below a ceiling at the bottom of the region).
 _RUN_ROOM = 0.95
 # Samples of candidate runs kept per polarity for listing noisy events.
-_STORE_MAX = 1 << 20
+_STORE_MAX = 1 << 19
 _NONE = np.iinfo(np.int64).min // 4  # "below every bin"
 _EMPTY = np.zeros(0, dtype=np.int64)
 
@@ -431,6 +432,7 @@ class _Side:
         self.kept_pos: list[np.ndarray] = []
         self.kept_bin: list[np.ndarray] = []
         self.kept = 0
+        self.kept_end = -1  # first sample not kept once the store is full
         # (extreme, lowest bin followed by the opening) and the lowest threshold bin whose
         # first max_events events may not be complete (None: to be recomputed)
         self.floor = (0.0, 0)
@@ -460,6 +462,7 @@ class _Side:
         c.floor, c.open_bin = self.floor, self.open_bin
         c.last, c.gap_pos, c.gap_bin = self.last, self.gap_pos, self.gap_bin
         c.kept_pos, c.kept_bin, c.kept = list(self.kept_pos), list(self.kept_bin), self.kept
+        c.kept_end = self.kept_end
         return c
 
     def raise_extreme(self, extreme: float) -> None:
@@ -527,7 +530,7 @@ class ClippingAccumulator:
     Feed consecutive 1-D blocks with :meth:`update`; :meth:`result` does not
     change the accumulator.  Results do not depend on how the signal is cut into
     blocks; memory is bounded (16 candidate levels per polarity, ``max_events``
-    listed events each, and at most 2**20 kept samples of candidate noisy runs).
+    listed events each, and at most 2**19 kept samples of candidate noisy runs).
     """
 
     def __init__(self, sample_rate_hz: float, *, search_db: float = 1.0, min_run_samples: int = 3,
@@ -709,10 +712,13 @@ class ClippingAccumulator:
                 counts = np.cumsum(side.d_event[:side.n_bins])[floor - side.base:]
                 open_ = np.flatnonzero(counts <= self._max_events)
                 side.open_bin = floor + int(open_[0]) if open_.size else side.base + side.n_bins
-            k = np.flatnonzero(rb >= side.open_bin)[: _STORE_MAX - side.kept]
+            k = np.flatnonzero(rb >= side.open_bin)
+            if k.size > _STORE_MAX - side.kept:
+                side.kept_end = int(p[k[_STORE_MAX - side.kept]])
+                k = k[: _STORE_MAX - side.kept]
             if k.size:
                 side.kept_pos.append(p[k])
-                side.kept_bin.append(rb[k])
+                side.kept_bin.append(rb[k].astype(np.int32))
                 side.kept += k.size
         if new.any():
             _add_steps(side.d_event, w[new], rb[new], side.base)
@@ -911,6 +917,8 @@ class ClippingAccumulator:
                 new[1:] = q[1:] - q[:-1] - 1 > self._gap
                 first = np.flatnonzero(new)
                 last = np.append(first[1:], q.size) - 1
+                if side.kept_end >= 0 and q[-1] + self._gap + 1 >= side.kept_end:
+                    first, last = first[:-1], last[:-1]  # the last event may go on past the store
                 first, last = first[: self._max_events], last[: self._max_events]
                 listed = list(zip(q[first].tolist(), (q[last] + 1).tolist(), (last - first + 1).tolist()))
         return _Found(level=level, clipped=clipped, runs=runs, events=events, listed=listed, tol=level - thr)
