@@ -120,3 +120,16 @@ def test_write_refuses_overwrite_and_is_atomic(tmp_path):
 def test_write_rejects_nan(tmp_path):
     with pytest.raises(SignalValueError, match="NaN"):
         audio.write(tmp_path / "n.wav", np.array([0.0, np.nan]), 8000)
+
+
+def test_mp3_is_read(tmp_path):
+    # libsndfile >= 1.1 decodes MPEG Layer III (libsndfile release notes); soundfile bundles 1.2
+    x = 0.3 * np.sin(2 * np.pi * 440 * np.arange(48000) / 48000)
+    p = tmp_path / "x.mp3"
+    sf.write(str(p), x, 48000, format="MP3", subtype="MPEG_LAYER_III")
+    i = audio.info(p)
+    assert i.format == "MP3" and i.sample_rate_hz == 48000
+    y, _ = audio.read(p)
+    # a lossy codec keeps the level of a steady tone: RMS within 0.2 dB of 0.3/sqrt(2) (common practice)
+    rms = np.sqrt(np.mean(y[4800:-4800] ** 2))
+    assert 20 * np.log10(rms / (0.3 / np.sqrt(2))) == pytest.approx(0.0, abs=0.2)
