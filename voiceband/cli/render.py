@@ -64,6 +64,10 @@ def rows(r: AnalysisResult) -> list[tuple[str, str, str, str]]:
     if it is not None:
         add("Intelligibility", "SII", _f(getattr(it, "sii", None), "", 3),
             f"ANSI S3.5-1997, {getattr(it, 'rating', '') or 'not rated'}")
+        curve = {round(p.snr_db): p.sii for p in getattr(it, "sii_vs_channel_snr", ())}
+        if 10 in curve and 0 in curve:
+            add("", "SII, weak signal", f"{curve[10]:.2f} / {curve[0]:.2f}",
+                "with white channel noise at 10 / 0 dB SNR")
     return out
 
 
