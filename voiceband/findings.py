@@ -114,16 +114,21 @@ def findings_for(
     if e.low is not None and e.low > T["edge_low_high_hz"]:
         add("lower_edge_high", "info", f"The audio starts at {e.low:.0f} Hz; voices will sound thin.")
     if e.low is None and e.high is None:
-        add("edges_unknown", "info", "The passband edges could not be estimated from this recording's spectrum.")
+        if e.lowest_band_hz is not None and e.highest_band_hz is not None:
+            add("no_band_limit_found", "info",
+                f"The estimated response stays within 10 dB of its passband from {e.lowest_band_hz:g} to "
+                f"{e.highest_band_hz:g} Hz: no band-limiting of the audio was found in that range.")
+        else:
+            add("edges_unknown", "info", "The passband edges could not be estimated from this recording's spectrum.")
     if voice.f0_median_hz is None:
         add("f0_unknown", "info", "No voiced speech was found, so the talker's fundamental frequency is not measurable.")
-    elif e.low is not None and voice.f0_p5_hz is not None and e.low > voice.f0_p5_hz:
+    elif e.low is not None and voice.f0_median_hz is not None and e.low > voice.f0_median_hz:
         add("highpass_above_f0", "info",
-            f"The lower edge ({e.low:.0f} Hz) is above the talker's lowest fundamental ({voice.f0_p5_hz:.0f} Hz): "
+            f"The lower edge ({e.low:.0f} Hz) is above the talker's median fundamental ({voice.f0_median_hz:.0f} Hz): "
             "the voice loses body, though intelligibility depends little on it.")
     if sii is not None and sii_rating:
         sev = "info" if sii >= 0.75 else ("warning" if sii >= 0.45 else "problem")
-        add("intelligibility", sev, f"Speech Intelligibility Index {sii:.2f} ({sii_rating}).")
+        add("intelligibility", sev, f"Speech Intelligibility Index {sii:.3f} ({sii_rating}).")
     return _sorted(out)
 
 
