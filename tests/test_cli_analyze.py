@@ -152,3 +152,17 @@ def test_bad_channel(tmp_path, rng):
     sf.write(str(p), _speechlike(rng, seconds=1.0), 16000)
     res = _run("analyze", p, "--channel", "4")
     assert res.exit_code == 2 and "channel 4 does not exist" in res.stderr
+
+
+def test_dc_offset_is_not_counted_as_noise(tmp_path, rng):
+    # A DC offset is reported as dc_offset; the pause noise floor is the AC power of the pauses
+    # (common practice: noise is measured on the band-limited, DC-free signal).
+    x = _speechlike(rng)
+    p0, p1 = tmp_path / "a.wav", tmp_path / "b.wav"
+    sf.write(str(p0), x, 16000, subtype="FLOAT")
+    sf.write(str(p1), x + 0.03, 16000, subtype="FLOAT")
+    d0 = json.loads(_run("analyze", p0, "--json", "-").stdout)
+    d1 = json.loads(_run("analyze", p1, "--json", "-").stdout)
+    assert d1["levels"]["dc_offset"] == pytest.approx(0.03 + d0["levels"]["dc_offset"], abs=1e-6)
+    assert d1["noise"]["floor_dbfs"] == pytest.approx(d0["noise"]["floor_dbfs"], abs=0.5)
+    assert any(f["code"] == "dc_offset" for f in d1["findings"])

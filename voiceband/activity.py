@@ -267,7 +267,8 @@ def activity_from_histogram(
 class _Framer:
     """Cuts a stream into frames of ``nfft`` samples with hop ``nfft // 2`` (float32).
 
-    ``push`` returns the complete new frames as a strided view, the mean square of each,
+    ``push`` returns the complete new frames as a strided view, the mean square of each
+    about its own mean (AC power: DC excluded),
     and the global index of the first; partial frames are carried to the next call.
     """
 
@@ -297,6 +298,11 @@ class _Framer:
         if not np.all(np.isfinite(sums)):
             raise SignalValueError("the samples contain NaN or infinite values")
         ms = (sums[:-1] + sums[1:]) / nfft
+        # Frame levels leave out the frame's own mean: a DC offset is reported as such by the
+        # levels, and counting it as noise would bury the pause noise floor under it.
+        s1 = chunks.sum(axis=1, dtype=np.float64)
+        mean = (s1[:-1] + s1[1:]) / nfft
+        ms = np.maximum(ms - mean * mean, 0.0)
         frames = np.lib.stride_tricks.as_strided(
             buf, shape=(n_new, nfft), strides=(hop * buf.itemsize, buf.itemsize), writeable=False
         )
