@@ -92,7 +92,7 @@ def analyze_file(
         The samples contain NaN/Inf, or the recording is shorter than :data:`MIN_DURATION_S`.
     """
     ai = audio.info(path)
-    if ai.duration_s < MIN_DURATION_S:
+    if ai.frames < int(MIN_DURATION_S * ai.sample_rate_hz):
         raise SignalValueError(
             f"'{ai.path}' is too short to analyse ({ai.frames} samples, {ai.duration_s:.3f} s); "
             f"voiceband needs at least {MIN_DURATION_S} s."
@@ -102,7 +102,7 @@ def analyze_file(
         pipe.update(block)
         if progress is not None:
             progress(pipe.samples, ai.frames)
-    if pipe.samples < MIN_DURATION_S * ai.sample_rate_hz:
+    if pipe.samples < int(MIN_DURATION_S * ai.sample_rate_hz):
         raise SignalValueError(f"'{ai.path}' holds fewer samples than its header says; it may be truncated.")
     ch = "mix" if str(channel) == "mix" else str(int(channel))
     info = InputInfo(
@@ -125,7 +125,7 @@ def analyze_signal(samples: np.ndarray, sample_rate_hz: int, *, name: str = "<si
     fs = int(sample_rate_hz)
     if not audio.MIN_SAMPLE_RATE_HZ <= fs <= audio.MAX_SAMPLE_RATE_HZ:
         raise SignalValueError(f"sample_rate_hz must be 8000–192000 Hz; got {sample_rate_hz}.")
-    if x.size < MIN_DURATION_S * fs:
+    if x.size < int(MIN_DURATION_S * fs):
         raise SignalValueError(f"the signal is too short to analyse ({x.size} samples); voiceband needs at least {MIN_DURATION_S} s.")
     pipe = _Pipeline(fs)
     step = audio.DEFAULT_BLOCK_FRAMES
