@@ -1,4 +1,4 @@
-"""Shared fixtures: a seeded RNG and small audio-file writers (test audio is built here, never committed)."""
+"""Shared fixtures: a seeded RNG, small audio-file writers and a random-block feeder (test audio is built here, never committed)."""
 
 from __future__ import annotations
 
@@ -22,3 +22,18 @@ def write_wav(tmp_path):
         return p
 
     return _write
+
+
+@pytest.fixture
+def feed_in_random_blocks():
+    """Feed ``x`` to an accumulator in blocks of random length 1 ... ``max_len``; return its result."""
+
+    def _feed(acc, x, rng, max_len):
+        i = 0
+        while i < x.size:
+            k = int(rng.integers(1, max_len + 1))
+            acc.update(x[i:i + k])
+            i += k
+        return acc.result()
+
+    return _feed

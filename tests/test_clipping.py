@@ -39,15 +39,6 @@ def speech_like(rng, fs, seconds, *, peak=1.0):
     return x * (peak / np.max(np.abs(x)))
 
 
-def feed_in_random_blocks(acc, x, rng, max_len):
-    i = 0
-    while i < x.size:
-        k = int(rng.integers(1, max_len + 1))
-        acc.update(x[i:i + k])
-        i += k
-    return acc.result()
-
-
 def clipped_sine_fraction(c):
     """Time a sine of unit amplitude spends at a clip level c (trade-facts §4 [K], analytic)."""
     return 1 - (2 / math.pi) * math.asin(c)
@@ -371,7 +362,7 @@ def test_noisy_event_listing_when_the_kept_samples_run_out(rng, monkeypatch):
     assert r.event_count == 2 and r.events == ()
 
 
-def test_noisy_ceiling_block_size_invariance(rng):
+def test_noisy_ceiling_block_size_invariance(rng, feed_in_random_blocks):
     pre, y = clipped_then_noisy(rng, -60.0)
     y = y[: 4 * 16000]
     one = measure_clipping(y, 16000)
@@ -421,7 +412,7 @@ def test_clean_quantised_noise_like_signals_report_no_clipping(rng, bits):
 
 
 # ---------------------------------------------------------------- streaming
-def test_block_size_invariance(rng):
+def test_block_size_invariance(rng, feed_in_random_blocks):
     fs = 16000
     x = np.clip(speech_like(rng, fs, 6.0), -0.1, 0.2) * 2.0
     one = measure_clipping(x, fs)
