@@ -5,7 +5,8 @@ Frames
 The analysis frame is ``nfft = 2**round(log2(fs / 10))`` samples (about 0.1 s: 4096 at
 48 kHz, 1024 at 8 kHz) with a hop of ``nfft / 2``; the same frames feed the long-term
 spectrum in :mod:`voiceband.spectrum`.  A frame's level is the mean square of its
-(unwindowed) samples in dBFS, where 0 dBFS is the RMS of a full-scale square wave, so a
+(unwindowed) samples about the frame's own mean (DC excluded, so a DC offset is not read
+as pause noise) in dBFS, where 0 dBFS is the RMS of a full-scale square wave, so a
 full-scale sine reads -3.01 dBFS.
 
 Speech/pause classification
@@ -178,10 +179,10 @@ class ActivityResult:
     speech_fraction : float or None
         ``speech_frame_count / frame_count``; ``None`` with no frames.
     noise_floor_dbfs : float or None
-        RMS level of the pause frames (dBFS); ``-inf`` if the pauses are digital silence;
-        ``None`` when no pause frames were found.
+        RMS level of the pause frames, DC excluded (dBFS); ``-inf`` if the pauses are digital
+        silence; ``None`` when no pause frames were found.
     speech_level_dbfs : float or None
-        RMS level of the speech frames (dBFS); ``None`` with no speech frames.
+        RMS level of the speech frames, DC excluded (dBFS); ``None`` with no speech frames.
     noise_mode_dbfs : float or None
         Centre of the noise-mode bin (``-inf`` if it is the silence bin); ``None`` for a
         steady signal.
