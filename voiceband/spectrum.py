@@ -60,7 +60,14 @@ from .activity import (
     _check_rate,
     classify_level_bins,
 )
-from .bandwidth import OccupiedBandwidth, PassbandEdges, cumulative_power, occupied_bandwidth, passband_edges
+from .bandwidth import (
+    OccupiedBandwidth,
+    PassbandEdges,
+    _exact_centre_hz,
+    cumulative_power,
+    occupied_bandwidth,
+    passband_edges,
+)
 from .errors import MeasurementError
 from .voice import VoiceReservoir, VoiceResult
 
@@ -177,13 +184,8 @@ def third_octave_levels_db(psd, freqs_hz) -> tuple[np.ndarray, np.ndarray]:
     return bands.nominal_hz, _levels_db(band_powers(psd, f, bands.lower_hz, bands.upper_hz))
 
 
-def _exact_centres(nominal_hz: np.ndarray) -> np.ndarray:
-    x = np.round(10.0 * np.log10(nominal_hz / 1000.0))
-    return 1000.0 * 10.0 ** (x / 10.0)
-
-
 def _slope(bands_hz, values, span_hz) -> Optional[float]:
-    f = _exact_centres(np.asarray(bands_hz, dtype=float))
+    f = _exact_centre_hz(np.asarray(bands_hz, dtype=float))
     v = np.asarray(values, dtype=float)
     if f.shape != v.shape:
         raise MeasurementError(f"bands_hz and band levels must have equal length; got {f.shape} and {v.shape}")
@@ -224,7 +226,7 @@ def psd_tilt_db_per_octave(bands_hz, band_db, *, span_hz=TILT_SPAN_HZ) -> Option
     slope is 10 log10(2) = 3.01 dB/octave below :func:`tilt_db_per_octave` (white noise 0,
     pink noise -3.01 dB/octave).
     """
-    f = _exact_centres(np.asarray(bands_hz, dtype=float))
+    f = _exact_centre_hz(np.asarray(bands_hz, dtype=float))
     width = f * (_EDGE_FACTOR - 1.0 / _EDGE_FACTOR)
     return _slope(bands_hz, np.asarray(band_db, dtype=float) - 10.0 * np.log10(width), span_hz)
 
