@@ -120,6 +120,7 @@ from typing import Optional
 import numpy as np
 
 from .errors import SignalValueError
+from .levels import _as_block, _check_rate
 
 __all__ = [
     "ClipEvent",
@@ -536,9 +537,7 @@ class ClippingAccumulator:
     def __init__(self, sample_rate_hz: float, *, search_db: float = 1.0, min_run_samples: int = 3,
                  merge_gap_s: float = 0.05, max_events: int = 1000,
                  quantization_step: Optional[float] = None) -> None:
-        fs = float(sample_rate_hz)
-        if not math.isfinite(fs) or fs <= 0.0:
-            raise SignalValueError(f"sample_rate_hz must be a positive number of hertz, got {sample_rate_hz!r}.")
+        fs = _check_rate(sample_rate_hz)
         if not (0.1 <= float(search_db) <= 6.0):
             raise SignalValueError(f"search_db must be between 0.1 and 6 dB, got {search_db!r}.")
         if int(min_run_samples) != min_run_samples or min_run_samples < 2:
@@ -574,13 +573,7 @@ class ClippingAccumulator:
         SignalValueError
             If the block is not 1-D real numbers or holds NaN or infinite values.
         """
-        x = np.asarray(block)
-        if x.ndim != 1:
-            raise SignalValueError(f"A block of samples must be one-dimensional, got an array of shape {x.shape}.")
-        if x.dtype != np.float64:
-            if not (np.issubdtype(x.dtype, np.floating) or np.issubdtype(x.dtype, np.integer)):
-                raise SignalValueError(f"Samples must be real numbers, got dtype {x.dtype}.")
-            x = x.astype(np.float64)
+        x = _as_block(block)
         n = x.size
         if n == 0:
             return
