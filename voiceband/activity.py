@@ -46,6 +46,7 @@ from typing import Optional
 import numpy as np
 
 from .errors import MeasurementError, SignalValueError
+from .levels import _db_power
 
 __all__ = [
     "LEVEL_MIN_DBFS",
@@ -203,10 +204,6 @@ class ActivityResult:
     speech_threshold_dbfs: Optional[float]
 
 
-def _db(power: float) -> float:
-    return 10.0 * math.log10(power) if power > 0 else -math.inf
-
-
 def activity_from_histogram(
     counts,
     mean_square_sums,
@@ -240,8 +237,8 @@ def activity_from_histogram(
     n = int(c.sum())
     ns = int(c[speech].sum())
     npause = int(c[pause].sum())
-    floor = _db(float(ms[pause].sum()) / npause) if npause else None
-    speech_level = _db(float(ms[speech].sum()) / ns) if ns else None
+    floor = _db_power(float(ms[pause].sum()) / npause) if npause else None
+    speech_level = _db_power(float(ms[speech].sum()) / ns) if ns else None
     if b_n is None:
         mode = None
         p_thr = math.inf if npause else None
