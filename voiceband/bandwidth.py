@@ -367,7 +367,6 @@ def _common_bands(f: np.ndarray, ref_f: np.ndarray) -> tuple[np.ndarray, np.ndar
 
 def _fit_effort(f, level_db, span_hz) -> Optional[VocalEffortFit]:
     from .intelligibility.tables import VOCAL_EFFORTS
-    from .reference_spectra import effort_band_levels_db
 
     lo, hi = span_hz
     refs = [effort_band_levels_db(e) for e in VOCAL_EFFORTS]
