@@ -127,7 +127,8 @@ def findings_for(
             f"The lower edge ({e.low:.0f} Hz) is above the talker's median fundamental ({voice.f0_median_hz:.0f} Hz): "
             "the voice loses body, though intelligibility depends little on it.")
     if sii is not None and sii_rating:
-        sev = "info" if sii >= 0.75 else ("warning" if sii >= 0.45 else "problem")
+        # the rating words carry the SII thresholds (intelligibility.recording.SII_RATING_THRESHOLDS)
+        sev = {"good": "info", "fair": "warning"}.get(sii_rating, "problem")
         add("intelligibility", sev, f"Speech Intelligibility Index {sii:.3f} ({sii_rating}).")
     return _sorted(out)
 
