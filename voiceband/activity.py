@@ -489,10 +489,8 @@ class _HumWindows:
             hist[b] += pw[sel].sum(axis=0)
             counts[b] += int(np.count_nonzero(sel))
 
-    def quiet_psd(self, hist=None, counts=None) -> tuple[Optional[np.ndarray], int]:
-        """Mean one-sided PSD of the quietest windows, corrected for the decimation filter."""
-        hist = self.hist if hist is None else hist
-        counts = self.counts if counts is None else counts
+    def quiet_psd(self, hist: np.ndarray, counts: np.ndarray) -> tuple[Optional[np.ndarray], int]:
+        """Mean one-sided PSD of the quietest windows in ``hist``/``counts``, corrected for the decimation filter."""
         occupied = np.flatnonzero(counts[1:]) + 1  # bin 0 is digital silence: no information
         if occupied.size == 0:
             return None, 0
