@@ -266,8 +266,8 @@ class _Framer:
     """Cuts a stream into frames of ``nfft`` samples with hop ``nfft // 2`` (float32).
 
     ``push`` returns the complete new frames as a strided view, the mean square of each
-    about its own mean (AC power: DC excluded),
-    and the global index of the first; partial frames are carried to the next call.
+    about its own mean (AC power: DC excluded), the global index of the first, and the
+    pushed samples as float32; partial frames are carried to the next call.
     """
 
     def __init__(self, nfft: int):
@@ -275,7 +275,6 @@ class _Framer:
         self.hop = self.nfft // 2
         self._tail = np.zeros(0, dtype=np.float32)
         self.frames_done = 0
-        self.last_block = self._tail
 
     def push(self, x: np.ndarray):
         hop, nfft = self.hop, self.nfft
@@ -283,14 +282,13 @@ class _Framer:
         buf = np.empty(t + x.size, dtype=np.float32)
         buf[:t] = self._tail
         buf[t:] = x
-        self.last_block = buf[t:]
         n_new = (buf.size - nfft) // hop + 1 if buf.size >= nfft else 0
         first = self.frames_done
         if n_new == 0:
             if not np.all(np.isfinite(buf[t:])):
                 raise SignalValueError("the samples contain NaN or infinite values")
             self._tail = buf
-            return buf[:0].reshape(0, nfft), np.zeros(0), first
+            return buf[:0].reshape(0, nfft), np.zeros(0), first, buf[t:]
         chunks = buf[: (n_new + 1) * hop].reshape(n_new + 1, hop)
         sums = np.einsum("ij,ij->i", chunks, chunks).astype(np.float64)
         if not np.all(np.isfinite(sums)):
@@ -309,7 +307,7 @@ class _Framer:
         if not np.all(np.isfinite(self._tail[(n_new + 1) * hop - n_new * hop :])):
             raise SignalValueError("the samples contain NaN or infinite values")
         self.frames_done += n_new
-        return frames, ms, first
+        return frames, ms, first, buf[t:]
 
 
 class ActivityAccumulator:
@@ -344,12 +342,12 @@ class ActivityAccumulator:
         the one conversion to float32.
         """
         x = _check_block(block)
-        frames, ms, first = self._framer.push(x)
+        frames, ms, first, x32 = self._framer.push(x)
         bins = level_bins(ms)
         if bins.size:
             self.counts += np.bincount(bins, minlength=LEVEL_BIN_COUNT)
             self.mean_square_sums += np.bincount(bins, weights=ms, minlength=LEVEL_BIN_COUNT)
-        return frames, bins, first, self._framer.last_block
+        return frames, bins, first, x32
 
     def update(self, block) -> None:
         """Add the next block of samples (1-D, any length >= 1)."""
