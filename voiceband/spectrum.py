@@ -56,7 +56,6 @@ from .activity import (
     ActivityResult,
     HumAccumulator,
     HumResult,
-    _check_block,
     _check_rate,
     classify_level_bins,
 )
@@ -346,7 +345,7 @@ class SpectralAccumulator:
 
     def update(self, block) -> None:
         """Add the next block of samples (1-D, native scale, any length >= 1)."""
-        frames, bins, first, x32 = self._activity.update_frames(_check_block(block))
+        frames, bins, first, x32 = self._activity.update_frames(block)  # checks the block
         if bins.size:
             self._spectra(frames, bins, first)
         self._hum.update(x32)
