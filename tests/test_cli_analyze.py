@@ -166,3 +166,21 @@ def test_dc_offset_is_not_counted_as_noise(tmp_path, rng):
     assert d1["levels"]["dc_offset"] == pytest.approx(0.03 + d0["levels"]["dc_offset"], abs=1e-6)
     assert d1["noise"]["floor_dbfs"] == pytest.approx(d0["noise"]["floor_dbfs"], abs=0.5)
     assert any(f["code"] == "dc_offset" for f in d1["findings"])
+
+
+def test_refused_block_leaves_activity_state_unchanged(rng):
+    # a block with NaN is refused with one sentence and does not change what was measured before it
+    from voiceband.activity import ActivityAccumulator
+    from voiceband.errors import SignalValueError
+
+    x = _speechlike(rng, seconds=2.0)
+    a, b = ActivityAccumulator(16000), ActivityAccumulator(16000)
+    a.update(x[:20000])
+    b.update(x[:20000])
+    bad = x[20000:21000].copy()
+    bad[-1] = np.nan
+    with pytest.raises(SignalValueError, match="NaN"):
+        a.update(bad)
+    a.update(x[20000:])
+    b.update(x[20000:])
+    assert a.result() == b.result()

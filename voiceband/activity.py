@@ -302,10 +302,11 @@ class _Framer:
         frames = np.lib.stride_tricks.as_strided(
             buf, shape=(n_new, nfft), strides=(hop * buf.itemsize, buf.itemsize), writeable=False
         )
-        self._tail = buf[n_new * hop :].copy()
-        # Samples not yet in a complete frame are checked here (the rest via their sums).
-        if not np.all(np.isfinite(self._tail[(n_new + 1) * hop - n_new * hop :])):
+        # Samples not yet in a complete frame are checked here (the rest via their sums),
+        # before any state changes, so a refused block leaves the framer as it was.
+        if not np.all(np.isfinite(buf[(n_new + 1) * hop :])):
             raise SignalValueError("the samples contain NaN or infinite values")
+        self._tail = buf[n_new * hop :].copy()
         self.frames_done += n_new
         return frames, ms, first, buf[t:]
 
