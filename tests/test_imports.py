@@ -24,3 +24,8 @@ def test_import_loads_no_plotting_or_heavy_audio_libraries():
 def test_cli_help_runs():
     out = subprocess.run([sys.executable, "-m", "voiceband.cli.main", "--help"], capture_output=True, text=True)
     assert out.returncode == 0 and "analyze" in out.stdout
+
+
+def test_cli_version():
+    out = subprocess.run([sys.executable, "-m", "voiceband.cli.main", "--version"], capture_output=True, text=True)
+    assert out.returncode == 0 and out.stdout.strip() == f"voiceband {voiceband.__version__}"

@@ -29,6 +29,21 @@ _COMMANDS = [
     ("testsignal", "voiceband.cli.testsignal", "testsignal"),
 ]
 
+def _version(value: bool) -> None:
+    if value:
+        from .. import __version__
+
+        typer.echo(f"voiceband {__version__}")
+        raise typer.Exit()
+
+
+@app.callback()
+def _root(
+    version: bool = typer.Option(False, "--version", callback=_version, is_eager=True, help="Print the version and exit."),
+) -> None:
+    """Measure and model the transmit audio of voice radio."""
+
+
 for _name, _module, _func in _COMMANDS:
     app.command(_name)(getattr(importlib.import_module(_module), _func))
 
