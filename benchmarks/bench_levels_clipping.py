@@ -1,8 +1,8 @@
 """Speed of the levels and clipping accumulators on one hour of 48 kHz audio.
 
 Feeds 659 blocks of 2**18 samples (one hour at 48 kHz, as ``voiceband analyze`` streams
-them) to :class:`voiceband.levels.LevelsAccumulator` and
-:class:`voiceband.clipping.ClippingAccumulator`, and prints for three signals the
+them) to :class:`voiceband.measurement.levels.LevelsAccumulator` and
+:class:`voiceband.measurement.clipping.ClippingAccumulator`, and prints for three signals the
 seconds per hour of audio and, measured in the same run, the ratio to one plain
 ``numpy.max`` pass over the same blocks (a machine-independent yardstick).  Blocks are
 cut from a 60-second pool of synthetic audio, so synthesis is not timed.
@@ -24,8 +24,8 @@ import time
 import numpy as np
 from scipy.signal import butter, lfilter
 
-from voiceband.clipping import ClippingAccumulator
-from voiceband.levels import BS1770_TRUE_PEAK_PHASES, LevelsAccumulator
+from voiceband.measurement.clipping import ClippingAccumulator
+from voiceband.measurement.levels import BS1770_TRUE_PEAK_PHASES, LevelsAccumulator
 
 FS = 48000
 BLOCK = 1 << 18

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from voiceband.activity import (
+from voiceband.measurement.activity import (
     LEVEL_BIN_COUNT,
     LEVEL_MIN_DBFS,
     ActivityAccumulator,

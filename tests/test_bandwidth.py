@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from scipy import optimize, signal
 
-from voiceband.bandwidth import (
+from voiceband.measurement.bandwidth import (
     OccupiedBandwidth,
     PassbandEdges,
     VocalEffortFit,
@@ -25,7 +25,7 @@ from voiceband.reference_spectra import (
     effort_band_levels_db,
     reference_band_levels_db,
 )
-from voiceband.spectrum import analyze_spectrum
+from voiceband.measurement.spectrum import analyze_spectrum
 
 #: ANSI S3.5-1997 Table 3 (one-third-octave procedure): band centres and standard speech
 #: spectrum levels per vocal effort, dB SPL per Hz (reference notes Table 3).

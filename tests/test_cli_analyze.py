@@ -170,7 +170,7 @@ def test_dc_offset_is_not_counted_as_noise(tmp_path, rng):
 
 def test_refused_block_leaves_activity_state_unchanged(rng):
     # a block with NaN is refused with one sentence and does not change what was measured before it
-    from voiceband.activity import ActivityAccumulator
+    from voiceband.measurement.activity import ActivityAccumulator
     from voiceband.errors import SignalValueError
 
     x = _speechlike(rng, seconds=2.0)

@@ -1,4 +1,4 @@
-"""Known-answer tests for voiceband.clipping.
+"""Known-answer tests for voiceband.measurement.clipping.
 
 Expected values come from analytic results (time a clipped sine or clipped Gaussian noise
 spends at the clip level: trade-facts §4 [K], scipy.stats for the Gaussian tail), from the
@@ -16,7 +16,7 @@ import pytest
 from scipy.signal import butter, lfilter
 from scipy.stats import norm
 
-from voiceband.clipping import ClipEvent, ClippingAccumulator, ClippingResult, measure_clipping
+from voiceband.measurement.clipping import ClipEvent, ClippingAccumulator, ClippingResult, measure_clipping
 from voiceband.errors import SignalValueError
 from voiceband.synth.speech import synthesize_speech
 
@@ -347,7 +347,7 @@ def test_noisy_event_listing_when_the_kept_samples_run_out(rng, monkeypatch):
     # Memory bound: with room for only 300 kept samples per polarity, the events listed are
     # those known to be complete (a subset of the full listing, identical where listed) and the
     # counts stay exact; a continuous clipped tone's one open event per polarity is not listed.
-    import voiceband.clipping as clipping
+    import voiceband.measurement.clipping as clipping
 
     pre, y = clipped_then_noisy(rng, -60.0)
     full = measure_clipping(y, 16000)

@@ -1,4 +1,4 @@
-"""Known-answer tests for voiceband.levels (peak, true peak, RMS, P.56, crest factor, DC).
+"""Known-answer tests for voiceband.measurement.levels (peak, true peak, RMS, P.56, crest factor, DC).
 
 Sources are named beside each expected value: analytic results, ITU-R BS.1770-4 Annex 2
 (coefficient table), ITU-T P.56 method B as summarised in trade-facts §3.1, the
@@ -19,7 +19,7 @@ from scipy.optimize import brentq
 from scipy.signal import butter, lfilter
 
 from voiceband.errors import SignalValueError
-from voiceband.levels import (
+from voiceband.measurement.levels import (
     BS1770_TRUE_PEAK_PHASES,
     P56_HANGOVER_S,
     P56_MARGIN_DB,

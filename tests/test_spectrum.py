@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from voiceband.errors import SignalValueError
-from voiceband.spectrum import (
+from voiceband.measurement.spectrum import (
     NOMINAL_THIRD_OCTAVE_HZ,
     SpectralAccumulator,
     SpectralAnalysis,

@@ -10,7 +10,7 @@ Checks (issue 4):
   phrase pauses, common practice).
 
 The spectrum criterion is checked twice: with the project's long-term speech spectrum
-(:func:`voiceband.spectrum.analyze_spectrum`, speech frames, as ``voiceband analyze``
+(:func:`voiceband.measurement.spectrum.analyze_spectrum`, speech frames, as ``voiceband analyze``
 reports it) and with a band-level estimator written here, independently of the package:
 Welch PSD (1 s Hann segments, 1 Hz bins) summed over base-10 one-third-octave band limits
 (IEC 61260-1: exact mid-band 1000·10^(x/10) Hz, limits ×10^(±1/20)).
@@ -25,8 +25,8 @@ import numpy as np
 import pytest
 from scipy import signal
 
-from voiceband.levels import measure_levels
-from voiceband.spectrum import analyze_spectrum
+from voiceband.measurement.levels import measure_levels
+from voiceband.measurement.spectrum import analyze_spectrum
 from voiceband.synth.speech import (
     CALIBRATION_DB,
     EFFORTS,
@@ -59,7 +59,7 @@ def aligned_deviation_db(x: np.ndarray, fs: int, effort: str) -> np.ndarray:
 
 
 def project_deviation_db(x: np.ndarray, fs: int, effort: str) -> np.ndarray:
-    """The same with the project's speech LTAS band levels (voiceband.spectrum)."""
+    """The same with the project's speech LTAS band levels (voiceband.measurement.spectrum)."""
     sp = analyze_spectrum(x, fs).spectrum
     keep = np.isin(sp.bands_hz, THIRD_OCTAVE_CENTRES_HZ)
     assert np.array_equal(sp.bands_hz[keep], THIRD_OCTAVE_CENTRES_HZ)
@@ -126,7 +126,7 @@ def test_modulation_spectrum_peaks_between_2_and_6_hz(medium_speech, effort):
 
 @pytest.mark.parametrize("effort", list(EFFORTS))
 def test_p56_activity_factor_between_0_5_and_0_85(medium_speech, effort):
-    # ITU-T P.56 method B activity factor (voiceband.levels), range from issue 4.
+    # ITU-T P.56 method B activity factor (voiceband.measurement.levels), range from issue 4.
     r = measure_levels(medium_speech[effort], 48000)
     assert 0.5 <= r.activity_factor <= 0.85
 

@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from voiceband.errors import SignalValueError
-from voiceband.levels import measure_levels
+from voiceband.measurement.levels import measure_levels
 from voiceband.synth.speech import (
     CALIBRATION_DB,
     EFFORTS,
@@ -67,7 +67,7 @@ def test_f0_rises_with_effort():
 
 @pytest.mark.parametrize("level", [-26.0, -35.0, -16.0])
 def test_output_active_level(level):
-    # Scaled to an ITU-T P.56 method B active level (voiceband.levels).
+    # Scaled to an ITU-T P.56 method B active level (voiceband.measurement.levels).
     x = synthesize_speech(6.0, 16000, seed=3, active_level_dbfs=level)
     assert measure_levels(x, 16000).active_level_dbfs == pytest.approx(level, abs=0.01)
 

@@ -8,10 +8,10 @@ import numpy as np
 import pytest
 
 from voiceband.errors import MeasurementError, SignalValueError
-from voiceband.spectrum import analyze_spectrum
+from voiceband.measurement.spectrum import analyze_spectrum
 from voiceband.synth.noise import mains_hum
 from voiceband.synth.speech import synthesize_speech
-from voiceband.voice import VoiceReservoir, VoiceResult, _beta_cdf, _dip_probabilities, measure_voice, yin_f0
+from voiceband.measurement.voice import VoiceReservoir, VoiceResult, _beta_cdf, _dip_probabilities, measure_voice, yin_f0
 
 
 def harmonic_complex(rng, fs, f0_hz, *, amplitude=0.1, nharm=20):
@@ -185,7 +185,7 @@ def test_dip_probabilities_two_dips_boltzmann_split():
     # lowest-dip share (1 % of F(h)) goes to the first.  Analytic from the pYIN definition.
     from scipy.stats import beta
 
-    from voiceband.voice import _BOLTZMANN
+    from voiceband.measurement.voice import _BOLTZMANN
 
     h = 0.12
     period, prob = _dip_probabilities(_dips_frame({40: h, 80: h}), 20)
@@ -275,7 +275,7 @@ def test_speech_f0_against_pyin_on_clean_speech(talker_args, kind):
 
 @pytest.mark.parametrize("talker_args", TALKERS[:3], ids=["low", "medium", "high"])
 def test_analyze_path_gates_pauses_but_keeps_weak_voicing(talker_args):
-    # Through the spectral accumulator the speech threshold from voiceband.activity gates
+    # Through the spectral accumulator the speech threshold from voiceband.measurement.activity gates
     # the frames; the median still agrees with pyin on the clean speech within 5 %.
     x, (ref50, _, _) = talker(*talker_args)
     voice = analyze_spectrum(impaired(x, "all", talker_args[2]), FS).voice

@@ -51,9 +51,9 @@ class _Pipeline:
     """The accumulators one analysis feeds, block by block."""
 
     def __init__(self, sample_rate_hz: int):
-        from .clipping import ClippingAccumulator
-        from .levels import LevelsAccumulator
-        from .spectrum import SpectralAccumulator
+        from .measurement.clipping import ClippingAccumulator
+        from .measurement.levels import LevelsAccumulator
+        from .measurement.spectrum import SpectralAccumulator
 
         self.fs = sample_rate_hz
         self.levels = LevelsAccumulator(sample_rate_hz)
@@ -137,7 +137,7 @@ def analyze_signal(samples: np.ndarray, sample_rate_hz: int, *, name: str = "<si
 
 def _combine(info: InputInfo, pipe: _Pipeline) -> AnalysisResult:
     from . import __version__
-    from .activity import snr_db
+    from .measurement.activity import snr_db
 
     lv = pipe.levels.result()
     cl = pipe.clipping.result()

@@ -1,7 +1,7 @@
 """Published long-term average speech spectra, as one-third-octave band levels.
 
 These are the reference shapes against which a measured speech spectrum is compared to
-estimate the response of a transmit chain (:func:`voiceband.bandwidth.passband_edges`).
+estimate the response of a transmit chain (:func:`voiceband.measurement.bandwidth.passband_edges`).
 Only the *shape* matters there, so each table keeps its published absolute level.
 
 Tables

@@ -2,7 +2,7 @@
 
 A clipped recording gives a response and distortion figures of the clipper, not of the
 chain, so it is refused with a clear message rather than measured.  Clipping is found
-by the project's detector (:mod:`voiceband.clipping`: flat runs at each polarity's
+by the project's detector (:mod:`voiceband.measurement.clipping`: flat runs at each polarity's
 extreme, confirmed by a spike in the amplitude histogram's tail), which also finds a
 clip level below full scale.
 """
@@ -32,7 +32,7 @@ def check_recording(recording: np.ndarray, sample_rate_hz: int, *, name: str = "
     MeasurementError
         Silent (peak below −90 dBFS) or clipped (at least ten flat runs at a clip level).
     """
-    from ..clipping import measure_clipping
+    from ..measurement.clipping import measure_clipping
 
     y = np.asarray(recording, dtype=np.float64)
     if y.ndim != 1 or y.size == 0:

@@ -822,7 +822,7 @@ def synthesize_speech(
     """
     from scipy import signal
 
-    from ..levels import measure_levels
+    from ..measurement.levels import measure_levels
 
     lvl = float(active_level_dbfs)
     if not np.isfinite(lvl) or not -100.0 <= lvl <= 0.0:

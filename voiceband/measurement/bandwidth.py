@@ -28,8 +28,8 @@ from typing import Optional
 
 import numpy as np
 
-from .errors import MeasurementError
-from .reference_spectra import REFERENCE_SPECTRA, effort_band_levels_db, reference_band_levels_db
+from ..errors import MeasurementError
+from ..reference_spectra import REFERENCE_SPECTRA, effort_band_levels_db, reference_band_levels_db
 
 __all__ = [
     "OccupiedBandwidth",
@@ -366,7 +366,7 @@ def _common_bands(f: np.ndarray, ref_f: np.ndarray) -> tuple[np.ndarray, np.ndar
 
 
 def _fit_effort(f, level_db, span_hz) -> Optional[VocalEffortFit]:
-    from .intelligibility.tables import VOCAL_EFFORTS
+    from ..intelligibility.tables import VOCAL_EFFORTS
 
     lo, hi = span_hz
     refs = [effort_band_levels_db(e) for e in VOCAL_EFFORTS]
@@ -467,7 +467,7 @@ def _check_span(span_hz) -> tuple[float, float]:
 
 def _effort_label(x: float) -> str:
     # Human-readable name of a point on the effort scale, to 10 % steps.
-    from .intelligibility.tables import VOCAL_EFFORTS
+    from ..intelligibility.tables import VOCAL_EFFORTS
 
     k = min(int(np.floor(x)), len(VOCAL_EFFORTS) - 2)
     w = np.floor((x - k) * 10.0 + 0.5) / 10.0

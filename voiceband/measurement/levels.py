@@ -61,7 +61,7 @@ from typing import Optional
 
 import numpy as np
 
-from .errors import SignalValueError
+from ..errors import SignalValueError
 
 __all__ = [
     "BS1770_TRUE_PEAK_PHASES",

@@ -59,7 +59,7 @@ from typing import Optional
 
 import numpy as np
 
-from .errors import MeasurementError, SignalValueError
+from ..errors import MeasurementError, SignalValueError
 
 __all__ = [
     "VoiceResult",
@@ -77,7 +77,7 @@ _ELIGIBLE_BELOW_MAX_DB = 30.0
 _MAX_STORED_SAMPLES = 1 << 22
 
 #: Frames this far below the speech threshold are not analysed (dB): with
-#: :mod:`voiceband.activity`'s default margins (speech 10 dB, pause 3 dB above the noise
+#: :mod:`voiceband.measurement.activity`'s default margins (speech 10 dB, pause 3 dB above the noise
 #: mode) that is the pause threshold, so pauses are out and weak voiced sounds stay in.
 #: Gating at the speech threshold itself kept only the louder syllables, whose F0 is
 #: higher, and raised the median by up to 15 % on noisy or hummy synthetic speech.
@@ -680,7 +680,7 @@ class VoiceReservoir:
         Parameters
         ----------
         min_level_dbfs : float or None, keyword-only
-            Speech threshold (from :class:`voiceband.activity.ActivityResult`).  Analysis
+            Speech threshold (from :class:`voiceband.measurement.activity.ActivityResult`).  Analysis
             frames more than 7 dB below it (pause level) are unvoiced, and chunks with no
             frame above that are not counted in ``analysed_s``.  ``None``: no level gate
             (voicing then rests on periodicity alone).

@@ -119,7 +119,7 @@ from typing import Optional
 
 import numpy as np
 
-from .errors import SignalValueError
+from ..errors import SignalValueError
 from .levels import _as_block, _check_rate
 
 __all__ = [

@@ -4,7 +4,7 @@ Frames
 ------
 The analysis frame is ``nfft = 2**round(log2(fs / 10))`` samples (about 0.1 s: 4096 at
 48 kHz, 1024 at 8 kHz) with a hop of ``nfft / 2``; the same frames feed the long-term
-spectrum in :mod:`voiceband.spectrum`.  A frame's level is the mean square of its
+spectrum in :mod:`voiceband.measurement.spectrum`.  A frame's level is the mean square of its
 (unwindowed) samples about the frame's own mean (DC excluded, so a DC offset is not read
 as pause noise) in dBFS, where 0 dBFS is the RMS of a full-scale square wave, so a
 full-scale sine reads -3.01 dBFS.
@@ -45,7 +45,7 @@ from typing import Optional
 
 import numpy as np
 
-from .errors import MeasurementError, SignalValueError
+from ..errors import MeasurementError, SignalValueError
 from .levels import _db_power
 
 __all__ = [
@@ -339,7 +339,7 @@ class ActivityAccumulator:
         the block as float32.
 
         ``frames`` (read-only) and the float32 block are views valid until the next call.
-        Used by :class:`voiceband.spectrum.SpectralAccumulator` to share the framing and
+        Used by :class:`voiceband.measurement.spectrum.SpectralAccumulator` to share the framing and
         the one conversion to float32.
         """
         x = _check_block(block)
@@ -606,7 +606,7 @@ class HumAccumulator:
         self.decimation = k
         self.low_rate_hz = fs / k
         m = _HUM_TAPS_PER_PHASE
-        from .lowpass import kaiser_lowpass
+        from ..lowpass import kaiser_lowpass
 
         h = kaiser_lowpass(m * k, self.low_rate_hz / 2.0, fs, beta=7.0)
         # Polyphase branches: output y[j] = sum_i R[j + i] . g_i, with R the rows of k samples

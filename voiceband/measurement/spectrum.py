@@ -3,9 +3,9 @@
 :class:`SpectralAccumulator` is the spectral side of ``voiceband analyze``: in one pass and
 constant memory it gathers everything that needs the spectrum or the speech/pause split,
 and :meth:`SpectralAccumulator.result` returns a :class:`SpectralAnalysis` with the
-activity and noise floor (:mod:`voiceband.activity`), long-term spectra and band levels
-(here), occupied bandwidth and passband edges (:mod:`voiceband.bandwidth`), mains hum, and
-the talker's F0 range (:mod:`voiceband.voice`).
+activity and noise floor (:mod:`voiceband.measurement.activity`), long-term spectra and band levels
+(here), occupied bandwidth and passband edges (:mod:`voiceband.measurement.bandwidth`), mains hum, and
+the talker's F0 range (:mod:`voiceband.measurement.voice`).
 
 Long-term spectrum
 ------------------
@@ -32,7 +32,7 @@ IEC 61260-1:2014 base-10 bands: exact mid-band frequencies ``1000 * 10**(x/10)``
 edges at ``10**(+/-1/20)`` times the mid-band, labelled by the nominal centres 25, 31.5,
 40 ... 20000 Hz (IEC 61260-1 Annex E / ISO 266).  Only bands whose upper edge lies below
 the Nyquist frequency are used.  A band *level* is the power in the band (dBFS),
-integrated from the PSD with fractional bins (:func:`voiceband.bandwidth.cumulative_power`).
+integrated from the PSD with fractional bins (:func:`voiceband.measurement.bandwidth.cumulative_power`).
 
 Tilt
 ----
@@ -67,7 +67,7 @@ from .bandwidth import (
     occupied_bandwidth,
     passband_edges,
 )
-from .errors import MeasurementError
+from ..errors import MeasurementError
 from .voice import VoiceReservoir, VoiceResult
 
 __all__ = [
