@@ -70,7 +70,7 @@ def testsignal(
 
     if bits not in _SUBTYPE:
         raise SignalValueError(f"--bits must be 16, 24 or 32, got {bits}.")
-    check_writable(out, force=force)
+    check_writable(out, force=force, make_folders=True)
     k = Kind(kind)
     if k is Kind.steps and duration_s is not None:
         raise SignalValueError("'steps' takes its length from --dwell-s, --gap-s and the number of tones; leave out --duration-s.")
@@ -86,7 +86,7 @@ def testsignal(
     sig = make_test_signal(k.value, sample_rate_hz=rate_hz, peak_dbfs=peak_dbfs, duration_s=duration_s, low_hz=low_hz,
                            high_hz=high_hz, tones=tones, tone_hz=tone_hz, dwell_s=dwell_s, gap_s=gap_s, markers=markers)
     samples, fs = sig.samples, sig.sample_rate_hz
-    write(out, samples, fs, subtype=_SUBTYPE[bits], force=force)
+    write(out, samples, fs, subtype=_SUBTYPE[bits], force=force, make_folders=True)
     typer.echo(f"{out}: {samples.size / fs:.3f} s at {fs} Hz, {_SUBTYPE[bits]}")
     for line in sig.lines:
         typer.echo("  " + line)
