@@ -121,7 +121,7 @@ def test_testsignal_multitone_prints_crest_factor(tmp_path):
     out = tmp_path / "m.wav"
     res = _run("testsignal", "multitone", "--out", out, "--duration-s", 1)
     assert res.exit_code == 0, res.output
-    # 28 tones 300–3000 Hz, Schroeder phases: ≈ 5.5 dB (trade-facts §7; Schroeder 1970, from memory).
+    # 28 tones 300–3000 Hz, Schroeder phases: ≈ 5.5 dB (Schroeder, IEEE Trans. IT-16, 1970, from memory).
     assert "crest factor 5.50 dB" in res.output
     x, fs = sf.read(out)
     assert fs == 48000 and sf.info(out).subtype == "PCM_24"
@@ -134,7 +134,7 @@ def test_testsignal_two_tone_frequencies_by_fft(tmp_path):
     assert res.exit_code == 0, res.output
     x, fs = sf.read(out)
     spec = np.abs(np.fft.rfft(x))  # 1 s: bin k is k Hz
-    # 47 CFR 2.1049 SSB test pair, 400 + 1800 Hz (trade-facts §1.5).
+    # 47 CFR 2.1049 SSB test pair, 400 + 1800 Hz.
     assert sorted(np.argsort(spec)[-2:].tolist()) == [400, 1800]
 
 

@@ -24,7 +24,7 @@ Stage keys
 ----------
 ``white``, ``pink``
     ``level_dbfs`` (RMS) or ``snr_db`` (noise RMS = the speech's P.56 active level − snr_db,
-    the active-speech SNR of trade-facts §6.3).
+    the active-speech SNR of ITU-T test design, from memory).
 ``hiss``
     As above, plus ``low_hz``, ``high_hz`` (Butterworth passband edges) and ``order``.
 ``hum``
