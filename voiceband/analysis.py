@@ -25,7 +25,7 @@ from __future__ import annotations
 import math
 import os
 from dataclasses import dataclass
-from typing import Any, Callable, Optional, Union
+from typing import TYPE_CHECKING, Callable, Optional, Union
 
 import numpy as np
 
@@ -60,6 +60,14 @@ MAX_LISTED_CLIP_EVENTS = 1000
 #: Low end of the span the occupied bandwidth is taken over (Hz); the high end is fs/2.
 OBW_SPAN_LOW_HZ = 20.0
 
+if TYPE_CHECKING:  # typing only: the accumulators are imported when a pipeline is made
+    from .measurement.activity import ActivityResult, HumResult
+    from .measurement.bandwidth import OccupiedBandwidth, PassbandEdges
+    from .measurement.clipping import ClippingResult
+    from .measurement.levels import LevelsResult
+    from .measurement.spectrum import SpectrumResult
+    from .measurement.voice import VoiceResult
+
 ProgressFn = Callable[[int, int], None]
 
 
@@ -90,15 +98,15 @@ class Measurements:
         Talker F0 range.
     """
 
-    levels: Any
-    clipping: Any
-    activity: Any
-    spectrum: Any
-    occupied_bandwidth: Any
-    edges: Any
-    hum: Any
+    levels: LevelsResult
+    clipping: ClippingResult
+    activity: ActivityResult
+    spectrum: Optional[SpectrumResult]
+    occupied_bandwidth: Optional[OccupiedBandwidth]
+    edges: Optional[PassbandEdges]
+    hum: Optional[HumResult]
     hum_window_count: int
-    voice: Any
+    voice: VoiceResult
 
 
 class RecordingAccumulator:

@@ -15,8 +15,14 @@ import math
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, Optional
 
-if TYPE_CHECKING:  # typing only: importing the engine here would load it with every result
+if TYPE_CHECKING:  # typing only: the report types do not load the measurement modules
     from .intelligibility.recording import RecordingIntelligibility
+    from .measurement.activity import ActivityResult, HumResult
+    from .measurement.bandwidth import OccupiedBandwidth, PassbandEdges
+    from .measurement.clipping import ClippingResult
+    from .measurement.levels import LevelsResult
+    from .measurement.spectrum import SpectrumResult
+    from .measurement.voice import VoiceResult
 
 __all__ = [
     "InputInfo",
@@ -71,7 +77,7 @@ class LevelsSection:
     dc_offset: Optional[float]
 
     @classmethod
-    def of(cls, lv: Any) -> "LevelsSection":
+    def of(cls, lv: LevelsResult) -> "LevelsSection":
         """From a :class:`~voiceband.measurement.levels.LevelsResult`; digital silence has no
         activity factor or DC offset."""
         silent = finite(lv.peak_dbfs) is None
@@ -102,7 +108,7 @@ class ClippingSection:
     events_listed: int = 0
 
     @classmethod
-    def of(cls, cl: Any, *, max_events: int) -> "ClippingSection":
+    def of(cls, cl: ClippingResult, *, max_events: int) -> "ClippingSection":
         """From a :class:`~voiceband.measurement.clipping.ClippingResult`, listing at most
         ``max_events`` events (all are counted)."""
         events = tuple(ClipEventRecord(float(e.start_s), float(e.duration_s)) for e in cl.events[:max_events])
@@ -124,7 +130,7 @@ class HumRecord:
     harmonics_hz: tuple[float, ...] = ()
 
     @classmethod
-    def of(cls, hum: Any) -> "HumRecord":
+    def of(cls, hum: HumResult) -> "HumRecord":
         """From a :class:`~voiceband.measurement.activity.HumResult`."""
         return cls(
             fundamental_hz=float(hum.fundamental_hz),
@@ -142,7 +148,7 @@ class NoiseSection:
     speech_fraction: Optional[float] = None
 
     @classmethod
-    def of(cls, activity: Any, hum: Any, *, active_level_dbfs: Optional[float], silent: bool) -> "NoiseSection":
+    def of(cls, activity: ActivityResult, hum: Optional[HumResult], *, active_level_dbfs: Optional[float], silent: bool) -> "NoiseSection":
         """From an :class:`~voiceband.measurement.activity.ActivityResult` and the hum found
         (or ``None``); the SNR is the active speech level minus the noise floor."""
         from .measurement.activity import snr_db
@@ -166,7 +172,7 @@ class EdgesRecord:
     highest_band_hz: Optional[float] = None
 
     @classmethod
-    def of(cls, e: Any) -> "EdgesRecord":
+    def of(cls, e: Optional[PassbandEdges]) -> "EdgesRecord":
         """From the :class:`~voiceband.measurement.bandwidth.PassbandEdges` estimate, or ``None`` (not estimated)."""
         if e is None:
             return cls(None, None, -10.0, "not estimated (no speech spectrum with pauses found)")
@@ -191,7 +197,7 @@ class OccupiedBandwidthRecord:
     span_high_hz: Optional[float] = None
 
     @classmethod
-    def of(cls, ob: Any) -> "OccupiedBandwidthRecord":
+    def of(cls, ob: Optional[OccupiedBandwidth]) -> "OccupiedBandwidthRecord":
         """From an :class:`~voiceband.measurement.bandwidth.OccupiedBandwidth`, or ``None`` (not measurable)."""
         if ob is None:
             return cls(0.99, None, None, None)
@@ -219,7 +225,9 @@ class SpectrumSection:
     vocal_effort_index: Optional[float] = None
 
     @classmethod
-    def of(cls, s: Any, edges: Any, obw: Any, *, silent: bool) -> "SpectrumSection":
+    def of(
+        cls, s: Optional[SpectrumResult], edges: Optional[PassbandEdges], obw: Optional[OccupiedBandwidth], *, silent: bool
+    ) -> "SpectrumSection":
         """From a :class:`~voiceband.measurement.spectrum.SpectrumResult` (or ``None`` when the
         recording is shorter than one frame), the passband edges and the occupied bandwidth;
         digital silence has no band levels or tilt."""
@@ -252,7 +260,7 @@ class VoiceSection:
     f0_p95_hz: Optional[float]
 
     @classmethod
-    def of(cls, v: Any) -> "VoiceSection":
+    def of(cls, v: VoiceResult) -> "VoiceSection":
         """From a :class:`~voiceband.measurement.voice.VoiceResult`."""
         return cls(finite(v.f0_median_hz), finite(v.f0_p5_hz), finite(v.f0_p95_hz))
 
