@@ -453,7 +453,7 @@ def test_non_finite_samples_raise(bad):
 def test_bad_options_and_input():
     with pytest.raises(SignalValueError, match="No samples"):
         measure_clipping(np.zeros(0), 8000)
-    with pytest.raises(SignalValueError, match="one-dimensional"):
+    with pytest.raises(SignalValueError, match="one channel"):
         measure_clipping(np.zeros((3, 3)), 8000)
     with pytest.raises(SignalValueError, match="sample_rate_hz"):
         ClippingAccumulator(-1)

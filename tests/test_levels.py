@@ -375,7 +375,7 @@ def test_failed_update_leaves_accumulator_unchanged(rng):
 def test_other_bad_input():
     with pytest.raises(SignalValueError, match="No samples"):
         measure_levels(np.zeros(0), 8000)
-    with pytest.raises(SignalValueError, match="one-dimensional"):
+    with pytest.raises(SignalValueError, match="one channel"):
         measure_levels(np.zeros((10, 2)), 8000)
     with pytest.raises(SignalValueError, match="sample_rate_hz"):
         LevelsAccumulator(0)

@@ -54,7 +54,7 @@ _LAZY = {
     "third_octave_bands": ("voiceband.measurement.spectrum", "third_octave_bands"),
     "occupied_bandwidth": ("voiceband.measurement.bandwidth", "occupied_bandwidth"),
     "passband_edges": ("voiceband.measurement.bandwidth", "passband_edges"),
-    "detect_hum": ("voiceband.measurement.activity", "detect_hum"),
+    "detect_hum": ("voiceband.measurement.hum", "detect_hum"),
     "measure_activity": ("voiceband.measurement.activity", "measure_activity"),
     "measure_voice": ("voiceband.measurement.voice", "measure_voice"),
     "sii": ("voiceband.intelligibility", "sii"),

@@ -54,11 +54,9 @@ from .activity import (
     LEVEL_BIN_COUNT,
     ActivityAccumulator,
     ActivityResult,
-    HumAccumulator,
-    HumResult,
-    _check_rate,
     classify_level_bins,
 )
+from .hum import HumAccumulator, HumResult
 from .bandwidth import (
     OccupiedBandwidth,
     PassbandEdges,
@@ -67,6 +65,7 @@ from .bandwidth import (
     occupied_bandwidth,
     passband_edges,
 )
+from .. import validate
 from ..errors import MeasurementError
 from .voice import VoiceReservoir, VoiceResult
 
@@ -313,7 +312,7 @@ class SpectralAccumulator:
     Parameters
     ----------
     sample_rate_hz : float
-        At least 4000 Hz.
+        8000–192000 Hz (:func:`voiceband.validate.sample_rate_hz`).
 
     Notes
     -----
@@ -330,7 +329,7 @@ class SpectralAccumulator:
     """
 
     def __init__(self, sample_rate_hz: float):
-        fs = _check_rate(sample_rate_hz)
+        fs = validate.sample_rate_hz(sample_rate_hz)
         self.sample_rate_hz = fs
         self._activity = ActivityAccumulator(fs)
         self.nfft = self._activity.nfft
