@@ -118,7 +118,7 @@ def test_bad_options(kwargs, match):
         synthesize_speech(2.0, 16000, **kwargs)
 
 
-@pytest.mark.parametrize("duration, fs, match", [(0.5, 16000, "duration_s"), (2.0, 4000, "sample_rate_hz"), (2.0, 16000.0, "whole number")])
+@pytest.mark.parametrize("duration, fs, match", [(0.5, 16000, "duration_s"), (2.0, 4000, "sample_rate_hz"), (2.0, 16000.5, "whole number")])
 def test_bad_duration_or_rate(duration, fs, match):
     with pytest.raises(SignalValueError, match=match):
         synthesize_speech(duration, fs)

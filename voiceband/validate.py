@@ -90,7 +90,10 @@ def sample_rate_hz(value, *, name: str = "sample_rate_hz") -> int:
     Non-integer rates are refused (no recording format stores one).
     """
     v = number(value, name=name)
-    if v != round(v) or not MIN_SAMPLE_RATE_HZ <= v <= MAX_SAMPLE_RATE_HZ:
+    if v != round(v):
+        raise SignalValueError(
+            f"{name} must be a whole number of hertz ({MIN_SAMPLE_RATE_HZ}–{MAX_SAMPLE_RATE_HZ} Hz); got {_show(value)}.")
+    if not MIN_SAMPLE_RATE_HZ <= v <= MAX_SAMPLE_RATE_HZ:
         raise SignalValueError(
             f"{name} must be {MIN_SAMPLE_RATE_HZ}–{MAX_SAMPLE_RATE_HZ} Hz; got {_show(value)}.")
     return int(v)

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .. import validate
 from ..errors import SignalValueError
 
 __all__ = [
@@ -28,14 +29,8 @@ DEFAULT_HUM_HARMONICS_DB = (0.0, -3.0, -10.0, -16.0, -20.0)
 
 
 def _check(duration_s: float, sample_rate_hz: int) -> int:
-    if not isinstance(sample_rate_hz, (int, np.integer)) or isinstance(sample_rate_hz, bool):
-        raise SignalValueError(f"sample_rate_hz must be a whole number of hertz, got {sample_rate_hz!r}.")
-    if not 1000 <= int(sample_rate_hz) <= 768000:
-        raise SignalValueError(f"sample_rate_hz must be 1000–768000 Hz, got {sample_rate_hz}.")
-    d = float(duration_s)
-    if not np.isfinite(d) or d <= 0.0 or d > 3600.0:
-        raise SignalValueError(f"duration_s must be more than 0 and at most 3600 s, got {duration_s}.")
-    n = int(round(d * sample_rate_hz))
+    fs = validate.sample_rate_hz(sample_rate_hz)
+    n = validate.duration_samples(duration_s, fs, maximum_s=3600.0)
     if n < 2:
         raise SignalValueError(f"duration_s = {duration_s} s gives fewer than two samples.")
     return n

@@ -30,6 +30,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .. import validate
 from ..errors import SignalValueError
 
 __all__ = [
@@ -113,11 +114,7 @@ def sweep_rate_constant_s(start_hz: float, stop_hz: float, duration_s: float) ->
 
 
 def _check_inputs(start_hz, stop_hz, duration_s, sample_rate_hz, level_dbfs) -> tuple[float, float, float, int, float]:
-    if not isinstance(sample_rate_hz, (int, np.integer)) or isinstance(sample_rate_hz, bool):
-        raise SignalValueError(f"sample_rate_hz must be a whole number of hertz, got {sample_rate_hz!r}.")
-    fs = int(sample_rate_hz)
-    if not 8000 <= fs <= 192000:
-        raise SignalValueError(f"sample_rate_hz must be 8000–192000 Hz, got {fs}.")
+    fs = validate.sample_rate_hz(sample_rate_hz)
     f1 = float(start_hz)
     f2 = float(stop_hz)
     if not np.isfinite(f1) or f1 <= 0.0:
