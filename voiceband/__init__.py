@@ -51,7 +51,7 @@ _LAZY = {
     "ClippingAccumulator": ("voiceband.measurement.clipping", "ClippingAccumulator"),
     "analyze_spectrum": ("voiceband.measurement.spectrum", "analyze_spectrum"),
     "SpectralAccumulator": ("voiceband.measurement.spectrum", "SpectralAccumulator"),
-    "third_octave_bands": ("voiceband.measurement.spectrum", "third_octave_bands"),
+    "third_octave_bands": ("voiceband.bands", "third_octave_bands"),
     "occupied_bandwidth": ("voiceband.measurement.bandwidth", "occupied_bandwidth"),
     "passband_edges": ("voiceband.measurement.bandwidth", "passband_edges"),
     "detect_hum": ("voiceband.measurement.hum", "detect_hum"),
