@@ -28,6 +28,7 @@ from typing import Mapping
 
 import numpy as np
 
+from ..bands import band_limits_hz
 from ..errors import MeasurementError
 
 __all__ = [
@@ -307,15 +308,6 @@ def _annex_b(table: np.ndarray) -> Mapping[str, np.ndarray]:
     return MappingProxyType({name: _ro(table[:, j]) for j, name in enumerate(_ANNEX_B_NAMES)})
 
 
-def _one_third_octave_limits_hz(centres_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Base-10 one-third-octave band limits (IEC 61260-1): exact mid-band fm = 1000*10**(x/10), limits
-    fm*10**(-1/20) and fm*10**(+1/20); they round to 141, 178, 224, ... 8913 Hz. Table 3 does not print
-    band limits; these are the limits the nominal centres stand for."""
-    x = np.round(10.0 * np.log10(centres_hz / 1000.0))
-    exact = 1000.0 * 10.0 ** (x / 10.0)
-    return exact * 10.0 ** (-0.05), exact * 10.0 ** 0.05
-
-
 def _build() -> dict[str, BandProcedure]:
     cb = _TABLE_1
     cb_limits_width = cb[:, 2] - cb[:, 1]
@@ -349,7 +341,9 @@ def _build() -> dict[str, BandProcedure]:
         spread_of_masking=True,
     )
     to = _TABLE_3
-    to_lower, to_upper = _one_third_octave_limits_hz(to[:, 0])
+    # Table 3 does not print band limits; these are the IEC 61260-1 base-10 limits the nominal
+    # centres stand for (141, 178, 224, ... 8913 Hz).
+    to_lower, to_upper = band_limits_hz(to[:, 0], fraction=3)
     third = BandProcedure(
         name="one-third-octave",
         table="Table 3",
