@@ -1,7 +1,7 @@
 """Decibel conversions of scalar powers and amplitudes, written once.
 
-``10 log10`` of a power ratio and ``20 log10`` of an amplitude ratio (IEC 60027-3:2002,
-clause 3: the decibel as one tenth of a bel of a power quantity); a zero quantity reads
+``10 log10`` of a power ratio and ``20 log10`` of an amplitude ratio (the decibel of
+IEC 60027-3 for power and root-power quantities; from memory); a zero quantity reads
 ``-inf`` dB rather than raising, so "no power" stays distinguishable from "not measured"
 (``None``).
 

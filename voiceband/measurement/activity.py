@@ -17,7 +17,7 @@ pass and constant memory):
 
 1. the noise mode is the most populated bin (3-bin running sum) at or below 3 dB above
    the 10th percentile of frame levels -- the low-energy mode of the level distribution,
-   the usual histogram reading of a noise floor (common practice; trade notes 6.2/6.3).
+   the usual histogram reading of a noise floor (common practice).
    Whole frames of ~0.1 s are averaged, so a frame level of steady noise scatters by only
    a fraction of a dB and the percentile bias noted for single periodogram bins does not
    arise;
@@ -347,7 +347,7 @@ def measure_activity(x, sample_rate_hz: float, **options) -> ActivityResult:
 def snr_db(active_level_dbfs: Optional[float], noise_floor_dbfs: Optional[float]) -> Optional[float]:
     """Active-speech SNR: active speech level minus noise floor (dB).
 
-    This is the "active-speech SNR" of ITU-T practice (trade notes 6.3): P.56 active level
+    This is the "active-speech SNR" of ITU-T test practice (from memory): P.56 active level
     (or another speech level) minus the noise level measured in the pauses.  Returns
     ``None`` when either level is missing or the difference is not finite (e.g. digital
     silence in the pauses).

@@ -413,8 +413,8 @@ def fit_vocal_effort(
     interpolated linearly in dB between tabulated efforts; the effort minimising the RMS of
     the difference after removing its mean (a least-squares fit of shape, not of level) over
     the bands inside ``span_hz`` is returned.  The bands of 500-2000 Hz carry the effort's
-    tilt (trade notes 5.3: 500-4000 Hz tilt -8.6 / -8.0 / -7.1 / -5.5 dB/octave for
-    normal / raised / loud / shout) and lie inside any voice passband.
+    tilt (ANSI S3.5-1997 Table 3 spectrum levels regressed on log2 f over 500-4000 Hz:
+    -8.6 / -8.0 / -7.1 / -5.5 dB/octave for normal / raised / loud / shout) and lie inside any voice passband.
 
     Limits: a chain whose response tilts across the fit span (pre-emphasis, a rising SSB
     transmit response) is indistinguishable here from a change of vocal effort: 6 dB/octave
@@ -486,8 +486,8 @@ def passband_edges(
 ) -> PassbandEdges:
     """Estimate the passband edges of a transmit chain from a long-term speech spectrum.
 
-    Method (common practice when no test signal is available; see trade notes on
-    "response from a reference LTASS"):
+    Method (common practice when no test signal is available: the measured long-term
+    spectrum against a reference long-term speech spectrum):
 
     1. Speech band power minus pause (noise) band power, where a noise spectrum is given,
        so that the estimate describes the speech that got through rather than the noise

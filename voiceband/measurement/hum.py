@@ -2,8 +2,8 @@
 
 The rule (what a mains line is)
 -------------------------------
-* Fundamentals: 50 Hz and 60 Hz, the two public-supply frequencies in use (IEC 60038:2009,
-  clause 1; common practice), each within ±0.5 Hz (EN 50160:2010 clause 4.2.1 allows
+* Fundamentals: 50 Hz and 60 Hz, the two public-supply frequencies in use (the 50 Hz and
+  60 Hz systems of IEC 60038:2009; from memory), each within ±0.5 Hz (EN 50160:2010 clause 4.2.1 allows
   50 Hz ± 1 % for 99.5 % of a year on interconnected systems; from memory).  The
   harmonic ``k`` is looked for within ``k * (f_mains ± 0.5 Hz)``.
 * Harmonics: ``k = 1, 2, ...`` up to 2 kHz (:data:`HUM_TOP_HZ`), as far as the spectrum
@@ -56,7 +56,7 @@ __all__ = [
     "steady_mains_lines",
 ]
 
-#: Nominal mains frequencies (Hz): 50 Hz and 60 Hz supply systems (IEC 60038:2009, clause 1).
+#: Nominal mains frequencies (Hz): 50 Hz and 60 Hz supply systems (IEC 60038:2009; from memory).
 MAINS_HZ = (50.0, 60.0)
 #: Tolerance of the fundamental around each nominal frequency (Hz, ±): EN 50160:2010
 #: clause 4.2.1, 50 Hz ± 1 % (from memory); real interconnected grids stay far inside it.

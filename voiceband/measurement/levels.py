@@ -103,8 +103,8 @@ BS1770_TRUE_PEAK_PHASES = np.array(
 BS1770_TRUE_PEAK_PHASES.setflags(write=False)
 
 #: ITU-T P.56 method B envelope time constant (s), hangover (s) and margin
-#: (dB) — P.56 (2011) method B as implemented in G.191 ``sv56demo``
-#: (trade-facts §3.1).
+#: (dB) — ITU-T P.56 (12/2011) method B as implemented in ITU-T G.191 ``sv56demo``
+#: (values read in open ports of it).
 P56_TIME_CONSTANT_S = 0.03
 P56_HANGOVER_S = 0.2
 P56_MARGIN_DB = 15.9

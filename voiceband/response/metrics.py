@@ -18,7 +18,7 @@ References
 −3 dB band edges relative to the passband peak, and passband ripple as the
 peak-to-valley variation of an equiripple passband, are textbook filter definitions
 (e.g. A. V. Oppenheim and R. W. Schafer, *Discrete-Time Signal Processing*, 3rd ed.,
-§7.2; from memory).
+section 7.2; from memory).
 """
 
 from __future__ import annotations

@@ -23,7 +23,7 @@ __all__ = [
 
 #: Default hum harmonic levels, dB re the fundamental, for harmonics 1, 2, 3, 4, 5.
 #: An illustrative pattern (common practice): a strong 2nd harmonic from full-wave rectifier
-#: ripple and odd harmonics from transformer magnetisation (trade-facts §6.1); not a
+#: ripple and odd harmonics from transformer magnetisation; not a
 #: measured or standardised spectrum.
 DEFAULT_HUM_HARMONICS_DB = (0.0, -3.0, -10.0, -16.0, -20.0)
 
@@ -156,7 +156,7 @@ def mains_hum(
     Parameters
     ----------
     mains_hz : float
-        Mains frequency, 40–70 Hz (50 or 60 Hz in practice; trade-facts §6.1).
+        Mains frequency, 40–70 Hz (50 or 60 Hz in practice, IEC 60038:2009).
     harmonics_db : sequence of float
         Level of harmonic 1, 2, 3 … in dB re the fundamental (the first entry is the
         fundamental itself and is normally 0).  Harmonics at or above Nyquist are left out.

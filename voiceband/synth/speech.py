@@ -25,7 +25,7 @@ Calibration
     voices keep their natural long-term difference, :data:`VOICE_DEVIATION_DB`.
 Level
     The result is scaled to an ITU-T P.56 (method B) active speech level, by default
-    −26 dBFS (common practice for narrowband test material; trade-facts §3.1).
+    −26 dBFS (common practice for narrowband test material, ITU-T G.191 / P.800-series; from memory).
 
 Synthesis runs at the output rate when it is at least 32 kHz, otherwise at the smallest
 integer multiple of it that is, followed by decimation, so the spectrum below 8 kHz does
@@ -60,7 +60,7 @@ __all__ = [
 ]
 
 #: P.56 active speech level of the output, dBFS (0 dBFS = full-scale square wave RMS).
-#: −26 dBov is the usual level for narrowband test material (trade-facts §3.1, from memory).
+#: −26 dBov is the usual level for narrowband test material (ITU-T G.191 practice, from memory).
 DEFAULT_ACTIVE_LEVEL_DBFS = -26.0
 
 #: One-third-octave band centres of ANSI S3.5-1997 Table 3, Hz (the calibration bands).

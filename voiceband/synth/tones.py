@@ -33,7 +33,7 @@ __all__ = [
 ]
 
 #: Two equal tones for an SSB (A3J/J3E) transmitter with a 3.0 kHz authorised bandwidth
-#: (47 CFR 2.1049; trade-facts §1.5).  The same section gives 500 + 2100 Hz (3.5 kHz) and
+#: (47 CFR 2.1049).  The same section gives 500 + 2100 Hz (3.5 kHz) and
 #: 500 + 2400 Hz (4.0 kHz).
 SSB_TWO_TONE_HZ = (400.0, 1800.0)
 #: Reference (alignment) tone frequency, common practice.
@@ -150,7 +150,7 @@ def schroeder_phases(n_tones: int) -> np.ndarray:
     References
     ----------
     M. R. Schroeder, "Synthesis of low-peak-factor signals and binary sequences with low
-    autocorrelation", IEEE Trans. Inf. Theory IT-16, 1970 (from memory); trade-facts §7.
+    autocorrelation", IEEE Trans. Inf. Theory IT-16, 1970 (from memory).
     """
     k = np.arange(1, int(n_tones) + 1, dtype=np.float64)
     return -np.pi * k * k / float(n_tones)
@@ -190,8 +190,8 @@ def multitone(
     Returns
     -------
     TestSignal
-        With ``crest_factor_db``: about 5.5 dB for 28 tones 300–3000 Hz (trade-facts §7),
-        17.5 dB for zero phases.
+        With ``crest_factor_db``: about 5.5 dB for 28 tones 300–3000 Hz (computed),
+        17.5 dB (10 log10 2K) for zero phases.
 
     Raises
     ------
@@ -228,7 +228,7 @@ def two_tone(
 
     The two cosines start in phase, so the peak equals twice each tone's amplitude: each
     tone sits 6.02 dB below ``peak_dbfs``.  The envelope's peak-to-average power ratio is
-    3.01 dB (PEP = 2 × average power; trade-facts §3.3).
+    3.01 dB (PEP = 2 × average power; computed).
 
     Parameters
     ----------
