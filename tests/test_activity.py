@@ -125,7 +125,7 @@ def test_bursts_with_digitally_silent_pauses(rng):
 
 
 def test_snr_helper():
-    # Active-speech SNR = active level - noise level (trade notes 6.3).
+    # Active-speech SNR = active level - noise level (ITU-T test practice; from memory).
     assert snr_db(-20.0, -65.5) == pytest.approx(45.5)
     assert snr_db(None, -60.0) is None and snr_db(-20.0, None) is None
     assert snr_db(-20.0, -np.inf) is None
@@ -155,7 +155,7 @@ def test_activity_bad_input():
 
 
 # ---------------------------------------------------------------------------------------
-# Mains hum (trade notes 6.1: comb k * f0, f0 in 49.5-50.5 / 59.5-60.5 Hz, local median)
+# Mains hum (voiceband.measurement.hum: comb k * f0, f0 in 49.5-50.5 / 59.5-60.5 Hz, local median)
 # ---------------------------------------------------------------------------------------
 
 

