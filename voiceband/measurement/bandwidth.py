@@ -224,6 +224,17 @@ def occupied_bandwidth(psd, freqs_hz, *, fraction: float = 0.99, span_hz=None) -
     References
     ----------
     ITU Radio Regulations No. 1.153; Recommendation ITU-R SM.328; 47 CFR 2.202(a).
+
+    Examples
+    --------
+    A flat spectrum 0-4 kHz (1 Hz bins) keeps 0.5 % of its power (20 Hz worth) below the
+    lower edge and 0.5 % above the upper edge:
+
+    >>> import numpy as np
+    >>> f = np.arange(0, 4001.0)
+    >>> obw = occupied_bandwidth(np.ones(f.size), f)
+    >>> round(obw.low_hz, 2), round(obw.high_hz, 2)
+    (19.51, 3980.49)
     """
     fraction = float(fraction)
     if not 0.0 < fraction < 1.0:
@@ -555,6 +566,20 @@ def passband_edges(
     MeasurementError
         Mismatched arrays, unknown reference, ``drop_db`` not positive, or a bad
         ``effort_fit_span_hz``.
+
+    Examples
+    --------
+    The Byrne et al. (1994) spectrum 40 dB down, with the bands below 300 Hz a further 20 dB
+    down (a high-pass chain), against that same reference:
+
+    >>> import numpy as np
+    >>> from voiceband.bands import BandLevels
+    >>> from voiceband.reference_spectra import reference_band_levels_db
+    >>> ref = reference_band_levels_db("byrne1994")
+    >>> cut = np.where(ref.nominal_hz < 300, -20.0, 0.0)
+    >>> e = passband_edges(BandLevels(ref.bands, ref.levels_db - 40.0 + cut))
+    >>> round(e.low_hz), e.high_hz, e.passband_level_db
+    (282, None, -40.0)
     """
     f, s, n = _check_levels(speech, noise)
     drop_db = float(drop_db)

@@ -475,7 +475,21 @@ class HumAccumulator:
 
 
 def detect_hum(x, sample_rate_hz: float, *, reference_level_dbfs: Optional[float] = None) -> Optional[HumResult]:
-    """Look for mains hum in a whole signal (one pass of :class:`HumAccumulator`)."""
+    """Look for mains hum in a whole signal (one pass of :class:`HumAccumulator`).
+
+    Examples
+    --------
+    A 50 Hz line and its 2nd harmonic over a weak noise floor:
+
+    >>> import numpy as np
+    >>> fs = 8000
+    >>> t = np.arange(20 * fs) / fs
+    >>> x = 0.01 * np.sin(2 * np.pi * 50 * t) + 0.005 * np.sin(2 * np.pi * 100 * t)
+    >>> x += 1e-4 * np.random.default_rng(0).standard_normal(t.size)
+    >>> hum = detect_hum(x, fs)
+    >>> round(hum.fundamental_hz, 2), hum.harmonic_numbers, round(hum.level_dbfs, 1)
+    (50.0, (1, 2), -42.0)
+    """
     acc = HumAccumulator(sample_rate_hz)
     acc.update(x)
     return acc.result(reference_level_dbfs=reference_level_dbfs)
