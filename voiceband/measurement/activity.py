@@ -9,28 +9,7 @@ spectrum in :mod:`voiceband.measurement.spectrum`.  A frame's level is the mean 
 as pause noise) in dBFS, where 0 dBFS is the RMS of a full-scale square wave, so a
 full-scale sine reads -3.01 dBFS.
 
-Speech/pause classification
----------------------------
-Frame levels are counted in a histogram of 1 dB bins (-160 ... +20 dBFS; the lowest bin
-also holds digital silence).  From the histogram (so the whole recording decides, in one
-pass and constant memory):
-
-1. the noise mode is the most populated bin (3-bin running sum) at or below 3 dB above
-   the 10th percentile of frame levels -- the low-energy mode of the level distribution,
-   the usual histogram reading of a noise floor (common practice).
-   Whole frames of ~0.1 s are averaged, so a frame level of steady noise scatters by only
-   a fraction of a dB and the percentile bias noted for single periodogram bins does not
-   arise;
-2. pause frames are those within ``pause_margin_db`` (3 dB) above the noise mode;
-3. speech frames are those at least ``speech_margin_db`` (10 dB) above the noise mode;
-   frames in between (syllable edges, weak sounds) belong to neither class;
-4. when fewer than 5 % of frames lie ``speech_margin_db`` above the noise mode the level
-   never rises clearly above a floor: a steady signal (noise, a tone, continuous
-   programme).  All frames are then taken as active and no noise floor is reported
-   (digital silence throughout counts as all pause).
-
-The method needs pauses: with fewer than about 10 % pause frames the "floor" is the level
-of the quietest speech.
+Speech/pause classification: :func:`classify_level_bins`.
 
 Mains hum is measured in :mod:`voiceband.measurement.hum`.
 """
@@ -94,7 +73,28 @@ def _bin_lower_dbfs(b: int) -> float:
 def classify_level_bins(
     counts, *, pause_margin_db: float = 3.0, speech_margin_db: float = 10.0
 ) -> tuple[np.ndarray, np.ndarray, Optional[int]]:
-    """Which frame-level bins are speech and which are pause (method in the module docstring).
+    """Which frame-level bins are speech and which are pause.
+
+    Frame levels are counted in a histogram of 1 dB bins (-160 ... +20 dBFS; the lowest bin
+    also holds digital silence).  From the histogram (so the whole recording decides, in one
+    pass and constant memory):
+
+    1. the noise mode is the most populated bin (3-bin running sum) at or below 3 dB above
+       the 10th percentile of frame levels -- the low-energy mode of the level distribution,
+       the usual histogram reading of a noise floor (common practice).
+       Whole frames of ~0.1 s are averaged, so a frame level of steady noise scatters by only
+       a fraction of a dB and the percentile bias noted for single periodogram bins does not
+       arise;
+    2. pause frames are those within ``pause_margin_db`` (3 dB) above the noise mode;
+    3. speech frames are those at least ``speech_margin_db`` (10 dB) above the noise mode;
+       frames in between (syllable edges, weak sounds) belong to neither class;
+    4. when fewer than 5 % of frames lie ``speech_margin_db`` above the noise mode the level
+       never rises clearly above a floor: a steady signal (noise, a tone, continuous
+       programme).  All frames are then taken as active and no noise floor is reported
+       (digital silence throughout counts as all pause).
+
+    The method needs pauses: with fewer than about 10 % pause frames the "floor" is the level
+    of the quietest speech.
 
     Parameters
     ----------

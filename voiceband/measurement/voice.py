@@ -8,45 +8,8 @@ Streaming: :class:`VoiceReservoir` keeps at most ``capacity_s`` (60 s) of the re
 0.5 s chunks, chosen evenly across the file among chunks loud enough to be speech, so
 memory is bounded whatever the file length.
 
-Estimator (in :meth:`VoiceReservoir.result`), on the stored chunks:
-
-1. *Analysis band.*  One FFT of each chunk gives, by keeping the bins below 4 kHz, the
-   chunk resampled to about 8 kHz (F0 and the harmonics that fix it lie far below
-   4 kHz), band-limited to about 70-3500 Hz: a zero-phase 4th-order Butterworth
-   high-pass magnitude at 70 Hz takes away rumble and most of a 50/60 Hz hum
-   fundamental (YIN follows the period of the harmonics, so a voice whose fundamental is
-   missing, as on a 300-2700 Hz channel, is still measured).
-2. *Mains hum.*  The lines of :mod:`voiceband.measurement.hum`'s rule (50/60 Hz and
-   harmonics up to 2 kHz, 12 dB over the median within +-20 Hz), found in the steady
-   (20th-percentile) chunk spectrum by :func:`~voiceband.measurement.hum.steady_mains_lines`,
-   are hum.  Each line is fitted per chunk as a steady sinusoid (frequency refined off
-   the bin grid, :func:`~voiceband.measurement.hum.subtract_line`) and subtracted, then
-   notched (+-10 Hz, smooth), so hum supplies no period in the pauses and does not
-   dominate it in the speech.  Frames that keep less than 3 % of their power in the
-   analysis band (nearly all hum, rumble or out-of-band sound) are unvoiced.
-3. *Periodicity.*  The YIN difference function and its cumulative-mean-normalised form
-   (de Cheveigne & Kawahara, J. Acoust. Soc. Am. 111(4):1917-1930, 2002, eqs. 6-8) in
-   32 ms windows every 10 ms, 50-500 Hz.
-4. *Candidates and voicing* by pYIN (Mauch & Dixon, "pYIN: a fundamental frequency
-   estimator using probabilistic threshold distributions", ICASSP 2014): instead of one
-   YIN threshold, a Beta(2, 18) distribution of thresholds; for each threshold the dips
-   below it get a Boltzmann prior over their order (parameter 1, see ``_BOLTZMANN``) so
-   that, as in YIN, the first dip is preferred but later ones keep some weight; summing
-   gives each dip a probability of being the period, and 1 minus their sum is the
-   probability that the frame is unvoiced.  Frames at pause level (7 dB or more below
-   the speech threshold given to :meth:`VoiceReservoir.result`) are unvoiced.
-5. *Tracking* by pYIN's hidden Markov model, on a 1/12-octave pitch grid with voiced and
-   unvoiced copies of each pitch: F0 may move at most 0.36 octave per 10 ms frame
-   (librosa.pyin's default 35.92 octaves/s; from memory), voicing switches with
-   probability 0.01, and the Viterbi path picks the dip of each frame.  Continuity is
-   what removes most octave errors on band-limited speech, where the 2nd harmonic often
-   makes the deepest dip.
-6. *Talker range.*  The tracking is run again with only the dips between 0.75 x the
-   first pass's lower quartile and 1.5 x its upper quartile (the two-pass floor and
-   ceiling of De Looze & Hirst 2008), which removes the remaining octave jumps.
-
-The 5th, 50th and 95th percentiles of the voiced-frame F0 values are reported.
-:func:`yin_f0` is the plain YIN estimator (steps 1-5 of the paper) for a single signal.
+Estimator: :meth:`VoiceReservoir.result`.  :func:`yin_f0` is the plain YIN estimator
+(steps 1-5 of the paper) for a single signal.
 """
 
 from __future__ import annotations
@@ -570,6 +533,45 @@ class VoiceReservoir:
 
     def result(self, *, min_level_dbfs: Optional[float] = None) -> VoiceResult:
         """F0 range of the kept chunks (does not change the reservoir).
+
+        Estimator, on the stored chunks:
+
+        1. *Analysis band.*  One FFT of each chunk gives, by keeping the bins below 4 kHz, the
+           chunk resampled to about 8 kHz (F0 and the harmonics that fix it lie far below
+           4 kHz), band-limited to about 70-3500 Hz: a zero-phase 4th-order Butterworth
+           high-pass magnitude at 70 Hz takes away rumble and most of a 50/60 Hz hum
+           fundamental (YIN follows the period of the harmonics, so a voice whose fundamental is
+           missing, as on a 300-2700 Hz channel, is still measured).
+        2. *Mains hum.*  The lines of :mod:`voiceband.measurement.hum`'s rule (50/60 Hz and
+           harmonics up to 2 kHz, 12 dB over the median within +-20 Hz), found in the steady
+           (20th-percentile) chunk spectrum by :func:`~voiceband.measurement.hum.steady_mains_lines`,
+           are hum.  Each line is fitted per chunk as a steady sinusoid (frequency refined off
+           the bin grid, :func:`~voiceband.measurement.hum.subtract_line`) and subtracted, then
+           notched (+-10 Hz, smooth), so hum supplies no period in the pauses and does not
+           dominate it in the speech.  Frames that keep less than 3 % of their power in the
+           analysis band (nearly all hum, rumble or out-of-band sound) are unvoiced.
+        3. *Periodicity.*  The YIN difference function and its cumulative-mean-normalised form
+           (de Cheveigne & Kawahara, J. Acoust. Soc. Am. 111(4):1917-1930, 2002, eqs. 6-8) in
+           32 ms windows every 10 ms, 50-500 Hz.
+        4. *Candidates and voicing* by pYIN (Mauch & Dixon, "pYIN: a fundamental frequency
+           estimator using probabilistic threshold distributions", ICASSP 2014): instead of one
+           YIN threshold, a Beta(2, 18) distribution of thresholds; for each threshold the dips
+           below it get a Boltzmann prior over their order (parameter 1, see ``_BOLTZMANN``) so
+           that, as in YIN, the first dip is preferred but later ones keep some weight; summing
+           gives each dip a probability of being the period, and 1 minus their sum is the
+           probability that the frame is unvoiced.  Frames at pause level (7 dB or more below
+           the speech threshold given to :meth:`VoiceReservoir.result`) are unvoiced.
+        5. *Tracking* by pYIN's hidden Markov model, on a 1/12-octave pitch grid with voiced and
+           unvoiced copies of each pitch: F0 may move at most 0.36 octave per 10 ms frame
+           (librosa.pyin's default 35.92 octaves/s; from memory), voicing switches with
+           probability 0.01, and the Viterbi path picks the dip of each frame.  Continuity is
+           what removes most octave errors on band-limited speech, where the 2nd harmonic often
+           makes the deepest dip.
+        6. *Talker range.*  The tracking is run again with only the dips between 0.75 x the
+           first pass's lower quartile and 1.5 x its upper quartile (the two-pass floor and
+           ceiling of De Looze & Hirst 2008), which removes the remaining octave jumps.
+
+        The 5th, 50th and 95th percentiles of the voiced-frame F0 values are reported.
 
         Parameters
         ----------
