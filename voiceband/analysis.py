@@ -61,7 +61,8 @@ MAX_LISTED_CLIP_EVENTS = 1000
 OBW_SPAN_LOW_HZ = 20.0
 
 if TYPE_CHECKING:  # typing only: the accumulators are imported when a pipeline is made
-    from .measurement.activity import ActivityResult, HumResult
+    from .measurement.activity import ActivityResult
+    from .measurement.hum import HumResult
     from .measurement.bandwidth import OccupiedBandwidth, PassbandEdges
     from .measurement.clipping import ClippingResult
     from .measurement.levels import LevelsResult
@@ -127,7 +128,8 @@ class RecordingAccumulator:
     """
 
     def __init__(self, sample_rate_hz: float):
-        from .measurement.activity import ActivityAccumulator, HumAccumulator
+        from .measurement.activity import ActivityAccumulator
+        from .measurement.hum import HumAccumulator
         from .measurement.clipping import ClippingAccumulator
         from .measurement.levels import LevelsAccumulator
         from .measurement.spectrum import LongTermSpectrumAccumulator
@@ -174,8 +176,7 @@ class RecordingAccumulator:
                 except MeasurementError:
                     obw = None
                 if act.noise_mode_dbfs is not None:  # not a steady signal
-                    edges = passband_edges(spectrum.bands_hz, spectrum.speech_band_db,
-                                           noise_band_db=spectrum.noise_band_db, reference="auto")
+                    edges = passband_edges(spectrum.speech_levels, noise=spectrum.noise_levels, reference="auto")
                     spectrum = spectrum.within_passband(edges.low_hz, edges.high_hz)
         return Measurements(lv, self.clipping.result(), act, spectrum, obw, edges, hum, self.hum.window_count, voice)
 
@@ -272,7 +273,7 @@ def _combine(info: InputInfo, pipe: RecordingAccumulator) -> AnalysisResult:
         from .intelligibility import recording_intelligibility
 
         try:
-            intel = recording_intelligibility(s.speech_band_db, s.noise_band_db, s.bands_hz)
+            intel = recording_intelligibility(s.speech_levels, s.noise_levels)
         except ValueError as exc:
             sii_error = str(exc)
     clipping = ClippingSection.of(m.clipping, max_events=MAX_LISTED_CLIP_EVENTS)

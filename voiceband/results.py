@@ -17,7 +17,8 @@ from typing import TYPE_CHECKING, Any, Optional
 
 if TYPE_CHECKING:  # typing only: the report types do not load the measurement modules
     from .intelligibility.recording import RecordingIntelligibility
-    from .measurement.activity import ActivityResult, HumResult
+    from .measurement.activity import ActivityResult
+    from .measurement.hum import HumResult
     from .measurement.bandwidth import OccupiedBandwidth, PassbandEdges
     from .measurement.clipping import ClippingResult
     from .measurement.levels import LevelsResult
@@ -131,7 +132,7 @@ class HumRecord:
 
     @classmethod
     def of(cls, hum: HumResult) -> "HumRecord":
-        """From a :class:`~voiceband.measurement.activity.HumResult`."""
+        """From a :class:`~voiceband.measurement.hum.HumResult`."""
         return cls(
             fundamental_hz=float(hum.fundamental_hz),
             level_db_re_speech=finite(hum.level_db_re_speech),

@@ -9,6 +9,6 @@ responses), ``metrics`` (edges, ripple), ``quality`` (silent or clipped recordin
 
 from .document import response_document
 from .measure import HarmonicLevel, ResponseResult, measure_response
-from .metrics import PassbandEdges
+from .metrics import ResponseEdges
 
-__all__ = ["measure_response", "response_document", "ResponseResult", "HarmonicLevel", "PassbandEdges"]
+__all__ = ["measure_response", "response_document", "ResponseResult", "HarmonicLevel", "ResponseEdges"]
