@@ -147,6 +147,12 @@ class RecordingAccumulator:
 
     def update(self, block: np.ndarray) -> None:
         """Add the next block of samples (1-D, native scale, any length >= 1)."""
+        from .validate import measurable_samples
+
+        # Huge finite samples (a float file at the wrong scale) are refused by what they are, before
+        # any float32 path turns them into infinities.
+        measurable_samples(np.asarray(block), name="The samples", first_sample=self.samples,
+                           sample_rate_hz=self.sample_rate_hz)
         self.levels.update(block)  # raises SignalValueError on a bad block before anything else sees it
         self.clipping.update(block)
         frames, bins, first, x32 = self.activity.update_frames(block)

@@ -29,7 +29,10 @@ __all__ = ["THRESHOLDS", "FINDINGS", "finding", "findings_for"]
 
 #: Decision thresholds (common practice unless noted).
 THRESHOLDS = {
-    "true_peak_over_dbtp": -0.1,        # inter-sample overs above this risk converter overload (common practice with BS.1770 true peak)
+    "true_peak_over_dbtp": 0.23,        # above 0 dBTP by more than the BS.1770 interpolator's +0.222 dB over-read
+                                        # (levels.TRUE_PEAK_OVER_READ_DB, computed from the annex table), so a
+                                        # full-scale sine is no over
+    "true_peak_near_dbtp": -0.1,        # within 0.1 dB of full scale: no headroom left (common practice with BS.1770 true peak)
     "active_level_low_dbfs": -40.0,     # quieter than this: recording level too low to judge noise well
     "dc_offset_warn": 0.01,             # 1 % of full scale (−40 dBFS)
     "snr_problem_db": 15.0,             # below: noise clearly audible under speech
@@ -62,7 +65,11 @@ FINDINGS: dict[str, tuple[Optional[str], str]] = {
         "microphone amplifier, and was turned down afterwards."),
     "clipping": ("problem", "The audio clips at full scale: {events} events, {clipped_percent:.2f} % of samples."),
     "true_peak_over": ("warning",
-        "True peak reaches {true_peak_dbtp:+.2f} dBTP: peaks between samples exceed full scale and can overload a converter."),
+        "True peak reaches {true_peak_dbtp:+.2f} dBTP, more than the +0.22 dB a BS.1770 4x meter can over-read at full "
+        "scale: peaks between samples exceed full scale and can overload a converter."),
+    "true_peak_near": ("info",
+        "True peak reads {true_peak_dbtp:+.2f} dBTP: the signal reaches full scale and leaves no headroom; a reading up "
+        "to +0.22 dBTP is within the over-read of a BS.1770 4x meter, so it need not exceed full scale."),
     "level_low": ("warning",
         "Active speech level is only {level_dbfs:.1f} dBFS; raise the recording level so noise figures reflect the transmitter, not the recorder."),
     "no_active_speech": ("warning", "No active speech was found, so the P.56 active level is not measurable."),
@@ -167,6 +174,8 @@ def findings_for(
             add("clipping", events=clipping.event_count, clipped_percent=clipped_percent)
     if levels.true_peak_dbtp is not None and levels.true_peak_dbtp > T["true_peak_over_dbtp"]:
         add("true_peak_over", true_peak_dbtp=levels.true_peak_dbtp)
+    elif levels.true_peak_dbtp is not None and levels.true_peak_dbtp > T["true_peak_near_dbtp"]:
+        add("true_peak_near", true_peak_dbtp=levels.true_peak_dbtp)
     if levels.active_level_dbfs is not None and levels.active_level_dbfs < T["active_level_low_dbfs"]:
         add("level_low", level_dbfs=levels.active_level_dbfs)
     if levels.activity_factor is not None and levels.active_level_dbfs is None:

@@ -34,6 +34,8 @@ __all__ = [
     "sample_rate_hz",
     "block",
     "finite_samples",
+    "MAX_SAMPLE_MAGNITUDE",
+    "measurable_samples",
     "duration_samples",
     "number",
     "band_levels_db",
@@ -126,6 +128,50 @@ def finite_samples(x: np.ndarray, *, name: str = "samples") -> np.ndarray:
         i = int(np.flatnonzero(~np.isfinite(x))[0])
         raise SignalValueError(f"{name} contain NaN or infinite values (first at sample {i}).")
     return x
+
+
+#: Largest sample magnitude measured: 10**6, +120 dB above full scale (±1.0).  A floating-point
+#: file can hold larger numbers, but no recording at full scale 1.0 does, and the measurements'
+#: float32 paths (squares, spectra) would overflow at about 1e19; such a file has the wrong scale.
+MAX_SAMPLE_MAGNITUDE = 1e6
+
+
+def measurable_samples(x: np.ndarray, *, name: str = "samples", first_sample: int = 0,
+                       sample_rate_hz: Optional[float] = None) -> np.ndarray:
+    """``x`` unchanged if every sample is finite and within ±:data:`MAX_SAMPLE_MAGNITUDE`.
+
+    Otherwise one sentence saying which it is and where the first bad sample is
+    (``first_sample`` is the index of ``x[0]`` in the whole signal; with ``sample_rate_hz``
+    the time is given too).
+
+    >>> measurable_samples(np.array([0.5, -2.0])).tolist()
+    [0.5, -2.0]
+    >>> measurable_samples(np.array([0.0, 1e16]))
+    Traceback (most recent call last):
+    ...
+    voiceband.errors.SignalValueError: samples reach 1e+16 (+320.0 dBFS) at sample 1; voiceband measures samples up to ±1e+06 (+120 dBFS), so the scale is wrong (full scale is ±1.0).
+    """
+    if x.size == 0:
+        return x
+    with np.errstate(invalid="ignore", over="ignore"):
+        a = np.abs(x)
+        peak = float(np.max(a))  # NaN if any is NaN
+    if math.isfinite(peak) and peak <= MAX_SAMPLE_MAGNITUDE:
+        return x
+
+    def where(i: int) -> str:
+        j = i + first_sample
+        return f"sample {j}" + (f" ({j / sample_rate_hz:.3f} s)" if sample_rate_hz else "")
+
+    bad = ~np.isfinite(x)
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        kind = "NaN" if np.isnan(x[i]) else "an infinite value"
+        raise SignalValueError(f"{name} contain {kind} at {where(i)}; only finite numbers can be measured.")
+    i = int(np.argmax(a))
+    raise SignalValueError(
+        f"{name} reach {peak:.3g} ({20.0 * math.log10(peak):+.1f} dBFS) at {where(i)}; voiceband measures "
+        f"samples up to ±{MAX_SAMPLE_MAGNITUDE:.0e} (+120 dBFS), so the scale is wrong (full scale is ±1.0).")
 
 
 def duration_samples(duration_s, sample_rate_hz: int, *, name: str = "duration_s",

@@ -38,7 +38,7 @@ import numpy as np
 
 from .. import validate
 from ..errors import SignalValueError
-from .activity import LEVEL_BIN_COUNT, level_bins
+from .activity import LEVEL_BIN_COUNT, LEVEL_BIN_DB, LEVEL_MIN_DBFS, level_bins
 
 __all__ = [
     "MAINS_HZ",
@@ -104,6 +104,11 @@ _MIN_SHARE = 1e-6
 _LINE_OVER_SHOULDER_DB = 10.0
 #: Windows averaged for detection: those within 3 dB (bins) of the quietest non-silent one.
 _QUIET_SPREAD_BINS = 3
+#: Lines whose summed power lies more than this far below the power of the windows they were found in
+#: are not hum but the rounding noise of the float32 path (single precision resolves about 2**-24,
+#: -144 dB; a clean float sine otherwise shows "lines" near -175 dB).  Real hum that far down is
+#: below any recording's dynamic range (24-bit PCM spans about 144 dB; computed).
+_ROUNDING_FLOOR_DB = 120.0
 
 
 @dataclass(frozen=True)
@@ -184,18 +189,19 @@ class _HumWindows:
             hist[b] += pw[sel].sum(axis=0)
             counts[b] += int(np.count_nonzero(sel))
 
-    def quiet_psd(self, hist: np.ndarray, counts: np.ndarray) -> tuple[Optional[np.ndarray], int]:
-        """Mean one-sided PSD of the quietest windows in ``hist``/``counts``, corrected for the decimation filter."""
+    def quiet_psd(self, hist: np.ndarray, counts: np.ndarray) -> tuple[Optional[np.ndarray], int, float]:
+        """Mean one-sided PSD of the quietest windows in ``hist``/``counts``, corrected for the decimation
+        filter; how many windows; the lower edge of their level (dBFS)."""
         occupied = np.flatnonzero(counts[1:]) + 1  # bin 0 is digital silence: no information
         if occupied.size == 0:
-            return None, 0
+            return None, 0, -math.inf
         b_min = int(occupied[0])
         last = min(b_min + _QUIET_SPREAD_BINS, LEVEL_BIN_COUNT - 1)
         used = int(counts[b_min : last + 1].sum())
         mean_pw = hist[b_min : last + 1].sum(axis=0) / used
         scale = 2.0 / (self.rate_hz * float(np.sum(self.win.astype(np.float64) ** 2)))
         psd = mean_pw * scale / np.maximum(self.gain2, 1e-12)
-        return psd, used
+        return psd, used, LEVEL_MIN_DBFS + b_min * LEVEL_BIN_DB
 
     def comb(self, psd: np.ndarray, mains: float):
         """Fit a comb k * f0 near ``mains``; return (f0, harmonics, powers, min ratio) or None."""
@@ -445,12 +451,12 @@ class HumAccumulator:
             if tail is not None:
                 hist, counts = hist.copy(), counts.copy()
                 path.add(tail, hist, counts)
-            psd, used = path.quiet_psd(hist, counts)
+            psd, used, window_dbfs = path.quiet_psd(hist, counts)
             if psd is None:
                 continue
             for mains in MAINS_HZ:
                 found = path.comb(psd, mains)
-                if found is None:
+                if found is None or 10.0 * math.log10(sum(found[2])) < window_dbfs - _ROUNDING_FLOOR_DB:
                     continue
                 key = (len(found[1]), found[3])
                 if best is None or key > best[0]:

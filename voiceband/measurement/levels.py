@@ -71,6 +71,7 @@ __all__ = [
     "P56_HANGOVER_S",
     "P56_MARGIN_DB",
     "TRUE_PEAK_SEARCH_MARGIN_DB",
+    "TRUE_PEAK_OVER_READ_DB",
     "LevelsResult",
     "LevelsAccumulator",
     "measure_levels",
@@ -114,6 +115,14 @@ P56_MARGIN_DB = 15.9
 #: over its highest sample (a sine at fs/4 sampled 45° off its peak); the rest
 #: covers the interpolator's own ripple.
 TRUE_PEAK_SEARCH_MARGIN_DB = 3.5
+
+#: Largest over-read of the BS.1770-4 Annex 2 interpolator (dB): the highest gain of any of its
+#: four phases for a sine from 0 to 0.45 fs, +0.222 dB at 0.253 fs (12.1 kHz at 48 kHz); at 1 kHz
+#: +0.008 dB, at DC +0.014 dB (phases 1 and 4 sum to 1.00159).  Computed for this project from
+#: :data:`BS1770_TRUE_PEAK_PHASES` (a test recomputes it).  A sine of sample peak 0 dBFS can
+#: therefore read up to this much above 0 dBTP without any inter-sample over.  (Its under-read,
+#: the other side, is -20 log10 cos(pi f / (4 fs)) for an ideal interpolator: 0.17 dB at fs/4.)
+TRUE_PEAK_OVER_READ_DB = 0.222
 
 # Over-sampling factor and taps per phase of the BS.1770 interpolator.
 _OVERSAMPLING = 4

@@ -18,6 +18,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .. import validate
 from ..errors import MeasurementError, SignalValueError
 from ..findings import finding
 from ..results import Finding
@@ -180,8 +181,7 @@ def _check_stimulus(x: np.ndarray, fs: int) -> np.ndarray:
     x = np.asarray(x, dtype=np.float64)
     if x.ndim != 1 or x.size == 0:
         raise SignalValueError("The stimulus must be a non-empty single channel of samples.")
-    if not np.all(np.isfinite(x)):
-        raise SignalValueError("The stimulus contains NaN or infinite samples.")
+    validate.measurable_samples(x, name="The stimulus's samples", sample_rate_hz=fs if isinstance(fs, (int, np.integer)) and fs > 0 else None)
     if not isinstance(fs, (int, np.integer)) or fs <= 0:
         raise SignalValueError(f"stimulus_rate_hz must be a positive whole number of hertz, got {fs!r}.")
     return x

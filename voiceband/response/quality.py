@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .. import validate
 from ..errors import MeasurementError, SignalValueError
 
 __all__ = ["check_recording", "SILENCE_DBFS", "MIN_CLIPPED_RUNS"]
@@ -37,8 +38,7 @@ def check_recording(recording: np.ndarray, sample_rate_hz: int, *, name: str = "
     y = np.asarray(recording, dtype=np.float64)
     if y.ndim != 1 or y.size == 0:
         raise SignalValueError(f"The {name} must be a non-empty single channel of samples.")
-    if not np.all(np.isfinite(y)):
-        raise SignalValueError(f"The {name} contains NaN or infinite samples.")
+    validate.measurable_samples(y, name=f"The {name}'s samples")
     peak = float(np.max(np.abs(y)))
     if peak < 10.0 ** (SILENCE_DBFS / 20.0):
         level = "-inf" if peak == 0.0 else f"{20.0 * np.log10(peak):.1f}"
