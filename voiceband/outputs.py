@@ -111,6 +111,9 @@ def check_writable(path: PathLike, *, force: bool = False, inputs: Iterable[Path
             raise OutputPathError(f"'{p}' is an input of this command; choose another output name.")
     if p.is_dir():
         raise OutputExistsError(f"'{p}' is a folder; give a file name.")
+    if p.exists() and not p.is_file():
+        raise OutputPathError(f"'{p}' exists and is not a regular file (a device, pipe or socket); "
+                              f"voiceband writes regular files only.")
     if p.exists() and not force:
         raise OutputExistsError(f"'{p}' already exists; use --force to overwrite it.")
     parent = p.parent if str(p.parent) else Path(".")
@@ -145,6 +148,26 @@ def _probe(folder: Path, dest: Path) -> None:
 def _tmp_name(dest: Path) -> str:
     suffix = dest.suffix if re.fullmatch(r"\.[A-Za-z0-9]{1,8}", dest.suffix or "") else ""
     return f".vb-{os.getpid()}-{secrets.token_hex(4)}.part{suffix}"
+
+
+def _is_write_failure(exc: BaseException) -> bool:
+    # An OSError while writing the temporary file, or the encoder's error (soundfile raises its own
+    # LibsndfileError, a RuntimeError, with "System error" when the disk refuses the data).
+    if isinstance(exc, OSError):
+        return not isinstance(exc, (FileExistsError,)) and exc.errno is not None
+    return type(exc).__name__ == "LibsndfileError"
+
+
+def _write_failure_reason(exc: BaseException, folder: Path) -> str:
+    if isinstance(exc, OSError) and exc.errno:
+        return os.strerror(exc.errno).lower()
+    try:
+        st = os.statvfs(folder)
+        if st.f_bavail * st.f_frsize < (1 << 20):
+            return os.strerror(errno.ENOSPC).lower()
+    except OSError:
+        pass
+    return f"the encoder failed ({str(exc).strip().rstrip('.') or type(exc).__name__})"
 
 
 def _pid_alive(pid: int) -> bool:
@@ -227,6 +250,9 @@ class _AtomicPath:
     def __exit__(self, exc_type, exc, tb) -> bool:
         assert self.tmp is not None
         try:
+            if exc is not None and _is_write_failure(exc):
+                raise OutputPathError(
+                    f"cannot write '{self.path}': {_write_failure_reason(exc, self.tmp.parent)}; nothing was written.") from None
             if exc_type is None:
                 try:
                     os.replace(self.tmp, self.path)

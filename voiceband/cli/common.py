@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import errno
 import functools
 import os
 import signal
@@ -53,6 +54,45 @@ def _catch_termination() -> None:
             signal.signal(sig, _raise_terminated)
 
 
+#: Errors of writing to a stream that has no room or no longer exists (standard output on a full
+#: disk, /dev/full, a closed descriptor); a broken pipe is the reader leaving, handled apart.
+_STREAM_ERRNOS = {errno.ENOSPC, errno.EDQUOT, errno.EFBIG, errno.EIO, errno.EBADF}
+
+
+def stdout_closed() -> bool:
+    """Whether standard output is closed (``>&-``): nothing could be printed, and the first file
+    opened would silently take descriptor 1."""
+    if sys.stdout is None:
+        return True
+    try:
+        os.fstat(1)
+    except OSError:
+        return True
+    return False
+
+
+def is_stream_error(exc: BaseException) -> bool:
+    """An OSError from writing to a standard stream (no file name attached, no room or no descriptor)."""
+    return isinstance(exc, OSError) and exc.errno in _STREAM_ERRNOS and exc.filename is None
+
+
+def silence_stdout() -> None:
+    """Point descriptor 1 at the null device, so what is still buffered for standard output is
+    dropped quietly instead of failing again when Python exits."""
+    try:
+        null = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(null, 1)
+        os.close(null)
+    except OSError:
+        pass
+
+
+def stdout_failed(exc: OSError) -> "typer.Exit":
+    """One sentence for output that could not be written to standard output, and the Exit to raise."""
+    silence_stdout()
+    return fail(f"cannot write to standard output: {os.strerror(exc.errno or errno.EIO).lower()}")
+
+
 def guarded(fn: Callable[..., Any]) -> Callable[..., Any]:
     """Wrap a command so user errors become one stderr sentence and a non-zero exit.
 
@@ -74,6 +114,13 @@ def guarded(fn: Callable[..., Any]) -> Callable[..., Any]:
             raise fail(f"stopped by signal {exc.signal_name}; nothing was left half-written", 128 + exc.signum) from None
         except MemoryError:
             raise fail("out of memory", EXIT_INTERNAL) from None
+        except OSError as exc:
+            if is_stream_error(exc):
+                raise stdout_failed(exc) from None
+            if os.environ.get("VOICEBAND_DEBUG"):
+                raise
+            raise fail(f"internal error ({type(exc).__name__}: {exc}); set VOICEBAND_DEBUG=1 for details",
+                       EXIT_INTERNAL) from None
         except Exception as exc:  # never show a traceback to a user
             if os.environ.get("VOICEBAND_DEBUG"):
                 raise

@@ -49,8 +49,64 @@ for _name, _module, _func in _COMMANDS:
 
 
 def main() -> None:
-    """Console-script entry point."""
-    app()
+    """Console-script entry point.
+
+    Refuses to start with standard output closed (``>&-``), and ends with one sentence and a
+    non-zero exit if standard output cannot take what was printed (``> /dev/full``).
+    """
+    import sys
+
+    from .common import EXIT_BAD_INPUT, is_stream_error, stdout_closed, stdout_failed
+
+    if stdout_closed():
+        sys.stderr.write("voiceband: standard output is closed; redirect it to a file or /dev/null instead.\n")
+        sys.exit(EXIT_BAD_INPUT)
+    hint = _leading_dash_file(sys.argv[1:])
+    try:
+        code: object = 0
+        if hint is None:
+            app()
+        else:  # parse ourselves, so a usage error about that name gets our sentence instead
+            rv = app(standalone_mode=False)
+            code = rv if isinstance(rv, int) else 0
+    except SystemExit as exc:
+        code = exc.code
+    except OSError as exc:  # printing help or a usage message to a full stream
+        if not is_stream_error(exc):
+            raise
+        code = _exit_code(stdout_failed(exc))
+    except Exception as exc:  # the parser's usage error (standalone_mode=False re-raises it)
+        if hint is None or getattr(exc, "exit_code", None) != 2 or not hasattr(exc, "show"):
+            raise
+        sys.stderr.write(f"voiceband: '{hint}' was read as an option; to name a file starting with '-', "
+                         f"write './{hint}' or put '--' before it.\n")
+        code = 2
+    try:
+        if sys.stdout is not None:
+            sys.stdout.flush()
+    except OSError as exc:
+        if not is_stream_error(exc):
+            raise
+        failed = _exit_code(stdout_failed(exc))
+        code = code if code not in (0, None) else failed
+    sys.exit(code)
+
+
+def _exit_code(exit_exc: BaseException) -> int:
+    return int(getattr(exit_exc, "exit_code", 2))
+
+
+def _leading_dash_file(args: list) -> "str | None":
+    """The first argument before ``--`` that starts with '-' and names an existing file (a usage error
+    about it then gets a sentence saying how to name such a file)."""
+    import os
+
+    for a in args:
+        if a == "--":
+            return None
+        if a.startswith("-") and a != "-" and not a.startswith("--") and os.path.lexists(a):
+            return a
+    return None
 
 
 if __name__ == "__main__":  # pragma: no cover
