@@ -106,6 +106,22 @@ def check_writable(path: PathLike, *, force: bool = False, inputs: Iterable[Path
     for part in p.parent.parts:
         if len(os.fsencode(part)) > limit:
             raise OutputPathError(f"cannot write '{p}': the folder name '{part[:40]}…' is too long for this file system.")
+    try:
+        _check_place(p, force=force, inputs=inputs, make_folders=make_folders)
+    except PermissionError:  # a folder on the way without search (x) permission
+        raise OutputPathError(f"cannot write '{p}': no permission to enter the folder '{_closed_folder(p)}'.") from None
+
+
+def _closed_folder(p: Path) -> Path:
+    """The first folder on the way to ``p`` that this process may not enter."""
+    a = Path(os.path.abspath(p))
+    for q in list(reversed(a.parents)):
+        if not os.access(q, os.X_OK):
+            return q
+    return a.parent
+
+
+def _check_place(p: Path, *, force: bool, inputs: Iterable[PathLike], make_folders: bool) -> None:
     for i in inputs:
         if _same_file(p, Path(i)) or os.path.abspath(p) == os.path.abspath(i):
             raise OutputPathError(f"'{p}' is an input of this command; choose another output name.")

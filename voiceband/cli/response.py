@@ -12,10 +12,10 @@ from .common import emit_json, guarded
 
 @guarded
 def response(
-    stimulus: Annotated[Path, typer.Argument(help="The test signal as played (a sweep or multitone file).", show_default=False)],
-    recording: Annotated[Path, typer.Argument(help="What the chain delivered when the test signal was played into it.", show_default=False)],
+    stimulus: Annotated[Path, typer.Argument(readable=False, help="The test signal as played (a sweep or multitone file).", show_default=False)],
+    recording: Annotated[Path, typer.Argument(readable=False, help="What the chain delivered when the test signal was played into it.", show_default=False)],
     out: Annotated[
-        Optional[Path], typer.Option("--out", help="Folder for the Bode plot (PNG).", metavar="DIR")
+        Optional[Path], typer.Option("--out", help="Folder for the Bode plot (PNG).", metavar="DIR", readable=False)
     ] = None,
     json_path: Annotated[
         Optional[str], typer.Option("--json", help="Also write JSON to PATH; '-' prints only JSON on stdout.", metavar="PATH|-")

@@ -15,11 +15,12 @@ _DEFAULT_FOLDER = Path("corpus_synthetic")
 @guarded
 def synth(
     out: Annotated[
-        Path, typer.Option("--out", "-o", help="Folder for the WAV files and manifest.json.", show_default=False)
+        Path, typer.Option("--out", "-o", help="Folder for the WAV files and manifest.json.", show_default=False, readable=False)
     ],
     specs: Annotated[
         Optional[list[Path]],
         typer.Argument(
+            readable=False,
             help="Spec files (TOML). Default: every *.toml in ./corpus_synthetic.", show_default=False, metavar="SPEC"
         ),
     ] = None,

@@ -32,7 +32,7 @@ def testsignal(
             show_default=False,
         ),
     ],
-    out: Annotated[Path, typer.Option("--out", "-o", help="Output file (.wav or .flac).", show_default=False)],
+    out: Annotated[Path, typer.Option("--out", "-o", help="Output file (.wav or .flac).", show_default=False, readable=False)],
     peak_dbfs: Annotated[
         Optional[float],
         typer.Option("--peak-dbfs", help="Sample peak level, dBFS (default -20 for 'tone', -6 otherwise).", show_default=False),

@@ -48,7 +48,9 @@ duration, sample format, generator version and the SHA-256 of the file's bytes.
 
 from __future__ import annotations
 
+import contextlib
 import os
+import stat
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable, Iterable, Union
@@ -83,6 +85,22 @@ _NOISE_KINDS = ("white", "pink", "hiss", "hum", "crashes")
 _FILTER_KINDS = ("bandpass", "highpass", "lowpass", "clip", "gain")
 _TOP_KEYS = {"description", "output", "sample_rate_hz", "duration_s", "seed", "bits", "speech", "stage"}
 _SPEECH_KEYS = {"voice", "effort", "active_level_dbfs"}
+#: Lowest filter edge of a stage (Hz): below it a Butterworth section at these rates is numerically
+#: meaningless and nothing of a voice channel is left to shape (common practice: 20 Hz audio band, with margin).
+_MIN_EDGE_HZ = 10.0
+#: Ranges of the other stage numbers (low, high, unit): wide enough for any plausible channel, narrow
+#: enough that a typing slip (gain_db = -1e6 writing silence) is refused instead of rendered.
+_STAGE_RANGES = {
+    "gain_db": (-60.0, 40.0, "dB"),
+    "level_dbfs": (-120.0, 0.0, "dBFS"),
+    "snr_db": (-60.0, 120.0, "dB"),
+    "peak_dbfs": (-120.0, 0.0, "dBFS"),
+    "mains_hz": (40.0, 70.0, "Hz"),
+    "rate_per_s": (0.0, 100.0, "per second"),
+    "decay_s": (0.0005, 2.0, "s"),
+}
+#: Largest spec file read (bytes).
+_MAX_SPEC_BYTES = 1 << 20
 _STAGE_KEYS = {
     "white": {"level_dbfs", "snr_db"},
     "pink": {"level_dbfs", "snr_db"},
@@ -201,10 +219,22 @@ def read_spec(path: Union[str, os.PathLike]) -> CorpusSpec:
     from .speech import EFFORTS, VOICES
 
     p = Path(path)
-    if not p.is_file():
-        raise ChainFileError(f"No such spec file: '{p}'.")
+    try:
+        st = os.stat(p)
+    except FileNotFoundError:
+        raise ChainFileError(f"No such spec file: '{p}'.") from None
+    except OSError as exc:
+        raise ChainFileError(f"cannot open the spec file '{p}': {os.strerror(exc.errno or 5).lower()}.") from None
+    if stat.S_ISDIR(st.st_mode):
+        raise ChainFileError(f"'{p}' is a folder, not a spec file; give .toml spec files.")
+    if not stat.S_ISREG(st.st_mode):
+        raise ChainFileError(f"'{p}' is not a regular file; give .toml spec files.")
+    if st.st_size > _MAX_SPEC_BYTES:
+        raise ChainFileError(f"'{p}' is {st.st_size} bytes long; a spec file is a short TOML text (at most 1 MB).")
     try:
         data = _toml().loads(p.read_text(encoding="utf-8"))
+    except OSError as exc:
+        raise ChainFileError(f"cannot read the spec file '{p}': {os.strerror(exc.errno or 5).lower()}.") from None
     except UnicodeDecodeError:
         raise ChainFileError(f"'{p.name}' is not a text file.") from None
     except ValueError as exc:  # tomllib.TOMLDecodeError subclasses ValueError
@@ -301,8 +331,14 @@ def _check_stage(stage: dict, index: int, path: Path, fs: int) -> tuple:
         if key not in opts:
             raise ChainFileError(f"{w}: a '{kind}' stage needs '{key}'.")
     for key in ("low_hz", "high_hz", "cutoff_hz"):
-        if key in opts and not 0.0 < opts[key] < fs / 2.0:
-            raise ChainFileError(f"{w}: '{key}' must lie between 0 and {fs / 2:g} Hz (Nyquist), got {opts[key]:g}.")
+        if key in opts and not _MIN_EDGE_HZ <= opts[key] < fs / 2.0:
+            raise ChainFileError(
+                f"{w}: '{key}' must be from {_MIN_EDGE_HZ:g} Hz up to {fs / 2:g} Hz (Nyquist), got {opts[key]:g}.")
+    for key, (lo, hi, unit) in _STAGE_RANGES.items():
+        if key in opts and not lo <= opts[key] <= hi and not (kind == "clip" and key == "level_dbfs"):
+            raise ChainFileError(f"{w}: '{key}' must be {lo:g} to {hi:g} {unit}, got {opts[key]:g}.")
+    if "harmonics_db" in opts and not all(-120.0 <= v <= 0.0 for v in opts["harmonics_db"]):
+        raise ChainFileError(f"{w}: each of 'harmonics_db' must be -120 to 0 dB (re the fundamental).")
     if kind == "clip" and not -60.0 <= opts["level_dbfs"] <= 0.0:
         raise ChainFileError(f"{w}: the clip 'level_dbfs' must be -60 to 0 dBFS peak, got {opts['level_dbfs']:g}.")
     return kind, tuple(sorted(opts.items()))
@@ -483,7 +519,7 @@ def generate(
         A WAV or the manifest exists and ``force`` is false.
     """
     from ..audio import write
-    from ..outputs import check_writable
+    from ..outputs import atomic_output, check_writable, sweep_stale
     from ..report.serialize import write_json
 
     specs = _read_specs(spec_paths)
@@ -495,15 +531,23 @@ def generate(
         check_writable(out / s.output, force=force, make_folders=True)
     check_writable(manifest_path, force=force, make_folders=True)
     entries = _load_manifest(manifest_path)
+    if out.is_dir():
+        sweep_stale(out)
     written = []
-    for s in specs:
-        x, e = render_entry(s)
-        write(out / s.output, x, s.sample_rate_hz, subtype=e.subtype, force=force, make_folders=True)
-        entries[e.file] = e
-        written.append(e)
-        if progress is not None:
+    # Every file goes to a temporary of its own; they replace their destinations together only when
+    # all specs have rendered and the manifest is ready, so a failure half-way leaves the folder as it was.
+    with contextlib.ExitStack() as stack:
+        for s in specs:
+            x, e = render_entry(s)
+            tmp = stack.enter_context(atomic_output(out / s.output, force=force, make_folders=True))
+            write(tmp, x, s.sample_rate_hz, subtype=e.subtype, force=True)
+            entries[e.file] = e
+            written.append(e)
+        tmp = stack.enter_context(atomic_output(manifest_path, force=True, make_folders=True))
+        write_json(manifest_document(entries), tmp, force=True)
+    if progress is not None:
+        for e in written:
             progress(e)
-    write_json(manifest_document(entries), manifest_path, force=True, make_folders=True)
     return written
 
 
