@@ -96,6 +96,8 @@ def check_writable(path: PathLike, *, force: bool = False, inputs: Iterable[Path
     """
     p = Path(path)
     name = p.name
+    if isinstance(path, (str, bytes)) and os.fsdecode(path).endswith(("/", os.sep)):
+        raise OutputPathError(f"'{os.fsdecode(path)}' names a folder; give a file name.")
     if not name or name in (".", ".."):
         raise OutputPathError(f"'{p}' is not a file name; give a file name.")
     limit = _name_max(Path("."))  # before any stat: a part over the limit makes every stat fail

@@ -28,7 +28,7 @@ def response(
     """Measure magnitude and phase response, passband edges, ripple, distortion and
     carrier offset of a chain from a recording of a sweep or multitone."""
     from ..audio import read
-    from ..errors import OutputExistsError
+    from ..errors import OutputExistsError, OutputPathError
     from ..outputs import atomic_output, check_writable
     from ..response import measure_response, response_document
 
@@ -41,7 +41,10 @@ def response(
     # A missing folder is made only when it is the --out folder (as the README's example writes the JSON there).
     json_in_out = out is not None and json_path not in (None, "-") and Path(json_path).resolve().parent == out.resolve()
     if json_path not in (None, "-"):
-        check_writable(Path(json_path), force=force, make_folders=json_in_out, inputs=(stimulus, recording))
+        check_writable(json_path, force=force, make_folders=json_in_out, inputs=(stimulus, recording))
+        if out is not None and Path(json_path).resolve() in (out.resolve(), png.resolve()):
+            raise OutputPathError(f"--json '{json_path}' would take the place of the --out folder or its plot; "
+                                  f"give another file name.")
     x, fs_x = read(stimulus)
     y, fs_y = read(recording, channel=channel)
     result = measure_response(x, fs_x, y, fs_y)

@@ -580,5 +580,23 @@ def measure_response(
     ana = analyse_stimulus(x, fs)
     y1 = _align.resample_to_rate(np.asarray(recording, dtype=np.float64), fs_rec, fs)
     if ana.kind == "sweep":
-        return _measure_sweep(x, fs, y1, fs_rec, ana, float(max_offset_hz), float(ir_window_s))
-    return _measure_tones(x, fs, y1, fs_rec, ana, float(max_offset_hz))
+        r = _measure_sweep(x, fs, y1, fs_rec, ana, float(max_offset_hz), float(ir_window_s))
+    else:
+        r = _measure_tones(x, fs, y1, fs_rec, ana, float(max_offset_hz))
+    _check_causal(r.delay_s)
+    return r
+
+
+#: Most negative delay accepted (s): a chain answers after it is driven; this much is left for the
+#: alignment's own uncertainty around a zero-delay (loop-back) measurement.
+CAUSAL_TOLERANCE_S = 0.001
+
+
+def _check_causal(delay_s: float) -> None:
+    """Refuse a response that peaks before the stimulus starts: no causal chain gives one."""
+    if delay_s < -CAUSAL_TOLERANCE_S:
+        raise MeasurementError(
+            f"The recording cannot be the stimulus passed through a chain: its response peaks "
+            f"{-delay_s:.4f} s before the stimulus starts, and a chain cannot answer before it is driven; "
+            "check that the stimulus comes first and the recording second, and that the recording started "
+            "before the playback.")
