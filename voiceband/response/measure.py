@@ -583,7 +583,7 @@ def measure_response(
         r = _measure_sweep(x, fs, y1, fs_rec, ana, float(max_offset_hz), float(ir_window_s))
     else:
         r = _measure_tones(x, fs, y1, fs_rec, ana, float(max_offset_hz))
-    _check_causal(r.delay_s)
+    _check_causal(r.delay_s, _first_active_s(x, fs))
     return r
 
 
@@ -592,11 +592,19 @@ def measure_response(
 CAUSAL_TOLERANCE_S = 0.001
 
 
-def _check_causal(delay_s: float) -> None:
-    """Refuse a response that peaks before the stimulus starts: no causal chain gives one."""
-    if delay_s < -CAUSAL_TOLERANCE_S:
+def _first_active_s(x: np.ndarray, fs: int) -> float:
+    """Time of the stimulus's first sample within 60 dB of its peak (s)."""
+    a = np.abs(x)
+    return float(np.argmax(a >= 1e-3 * float(a.max()))) / fs
+
+
+def _check_causal(delay_s: float, stimulus_onset_s: float) -> None:
+    """Refuse a response that peaks before the stimulus starts although the recording holds all of the
+    stimulus: no causal chain gives one (a recording started after the playback, cutting the start of
+    the stimulus, is measured: its delay is then relative to a point the recording does not hold)."""
+    holds_start = stimulus_onset_s + delay_s >= 0.0
+    if delay_s < -CAUSAL_TOLERANCE_S and holds_start:
         raise MeasurementError(
-            f"The recording cannot be the stimulus passed through a chain: its response peaks "
-            f"{-delay_s:.4f} s before the stimulus starts, and a chain cannot answer before it is driven; "
-            "check that the stimulus comes first and the recording second, and that the recording started "
-            "before the playback.")
+            f"The recording cannot be the stimulus passed through a chain: it holds the whole stimulus, yet its "
+            f"response peaks {-delay_s:.4f} s before the stimulus starts, and a chain cannot answer before it is "
+            "driven; check that the stimulus comes first and the recording second.")
