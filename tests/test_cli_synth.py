@@ -172,7 +172,7 @@ def test_testsignal_refuses_to_overwrite(tmp_path):
         (["steps", "--duration-s", 3], "--dwell-s"),
         (["two-tone", "--low-hz", 300], "--tone-hz"),
         (["tone", "--bits", 8], "--bits"),
-        (["tone", "--rate-hz", 4000], "sample"),
+        (["tone", "--rate-hz", 4000], "--rate-hz must be 8000–192000 Hz"),
     ],
 )
 def test_testsignal_bad_options(tmp_path, args, expected):

@@ -12,7 +12,7 @@ import os
 import stat
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterator, Union
+from typing import Iterable, Iterator, Union
 
 import numpy as np
 
@@ -28,6 +28,7 @@ __all__ = [
     "blocks",
     "read",
     "write",
+    "write_blocks",
     "encode",
     "Channel",
 ]
@@ -305,6 +306,31 @@ def write(
     sf = _sf()
     with atomic_output(p, force=force, make_folders=make_folders) as tmp:
         sf.write(_native(tmp), x, int(sample_rate_hz), subtype=subtype, format=fmt)
+    return p
+
+
+def write_blocks(
+    path: Union[str, os.PathLike],
+    blocks: Iterable[np.ndarray],
+    sample_rate_hz: int,
+    *,
+    subtype: str = "PCM_16",
+    force: bool = False,
+    make_folders: bool = False,
+) -> Path:
+    """Write one channel given as consecutive blocks (full scale ±1.0) atomically, block by block:
+    memory does not grow with the length.  Format and rules as :func:`write`."""
+    p = Path(path)
+    _, fmt, subtype = _encoding(p, np.zeros(0), sample_rate_hz, subtype)
+    sf = _sf()
+    with atomic_output(p, force=force, make_folders=make_folders) as tmp:
+        with sf.SoundFile(_native(tmp), "w", samplerate=int(sample_rate_hz), channels=1, subtype=subtype,
+                          format=fmt) as f:
+            for b in blocks:
+                x = np.asarray(b, dtype=np.float64)
+                if not np.all(np.isfinite(x)):
+                    raise SignalValueError("samples to write contain NaN or Inf.")
+                f.write(x)
     return p
 
 

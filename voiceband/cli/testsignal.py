@@ -63,11 +63,13 @@ def testsignal(
     force: Annotated[bool, typer.Option("--force", help="Overwrite an existing file.")] = False,
 ) -> None:
     """Write a test signal for measuring a transmit chain; prints its levels (and the multitone crest factor)."""
-    from ..audio import write
+    from .. import validate
+    from ..audio import write_blocks
     from ..errors import SignalValueError
     from ..outputs import check_writable
-    from ..synth.testsignals import make_test_signal
+    from ..synth.testsignals import stream_test_signal
 
+    validate.sample_rate_hz(rate_hz, name="--rate-hz")
     if bits not in _SUBTYPE:
         raise SignalValueError(f"--bits must be 16, 24 or 32, got {bits}.")
     check_writable(out, force=force, make_folders=True)
@@ -83,10 +85,12 @@ def testsignal(
     if k is Kind.tone and tone_hz and len(tone_hz) != 1:
         raise SignalValueError("'tone' takes one --tone-hz.")
 
-    sig = make_test_signal(k.value, sample_rate_hz=rate_hz, peak_dbfs=peak_dbfs, duration_s=duration_s, low_hz=low_hz,
-                           high_hz=high_hz, tones=tones, tone_hz=tone_hz, dwell_s=dwell_s, gap_s=gap_s, markers=markers)
-    samples, fs = sig.samples, sig.sample_rate_hz
-    write(out, samples, fs, subtype=_SUBTYPE[bits], force=force, make_folders=True)
-    typer.echo(f"{out}: {samples.size / fs:.3f} s at {fs} Hz, {_SUBTYPE[bits]}")
+    # Every parameter is checked when the signal is laid out; it is then rendered and written in
+    # blocks (constant memory however long), into a temporary file that replaces OUT at the end.
+    sig = stream_test_signal(k.value, sample_rate_hz=rate_hz, peak_dbfs=peak_dbfs, duration_s=duration_s, low_hz=low_hz,
+                             high_hz=high_hz, tones=tones, tone_hz=tone_hz, dwell_s=dwell_s, gap_s=gap_s, markers=markers)
+    fs = sig.sample_rate_hz
+    write_blocks(out, sig.blocks(), fs, subtype=_SUBTYPE[bits], force=force, make_folders=True)
+    typer.echo(f"{out}: {sig.frames / fs:.3f} s at {fs} Hz, {_SUBTYPE[bits]}")
     for line in sig.lines:
         typer.echo("  " + line)

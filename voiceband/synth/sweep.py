@@ -35,6 +35,8 @@ from ..errors import SignalValueError
 
 __all__ = [
     "SweepSignal",
+    "SweepLayout",
+    "sweep_layout",
     "exponential_sweep",
     "inverse_filter",
     "sweep_rate_constant_s",
@@ -143,19 +145,6 @@ def _half_hann(n: int) -> np.ndarray:
     return 0.5 - 0.5 * np.cos(np.pi * (np.arange(n) + 0.5) / n)
 
 
-def _sweep_core(f1: float, f2: float, t_s: float, fs: int) -> tuple[np.ndarray, float]:
-    n = int(round(t_s * fs))
-    lc = t_s / np.log(f2 / f1)
-    t = np.arange(n, dtype=np.float64) / fs
-    x = np.sin(2.0 * np.pi * f1 * lc * np.expm1(t / lc))
-    n_in = min(int(round(lc * np.log(2.0) * _FADE_IN_OCTAVES * fs)), n // 4)
-    n_out = min(int(round(lc * np.log(2.0) * _FADE_OUT_OCTAVES * fs)), n // 4)
-    x[:n_in] *= _half_hann(n_in)
-    if n_out > 0:
-        x[n - n_out:] *= _half_hann(n_out)[::-1]
-    return x, float(lc)
-
-
 def _marker(fa: float, fb: float, fs: int) -> np.ndarray:
     """Linear chirp fa → fb of MARKER_DURATION_S with 10 % raised-cosine edges."""
     n = int(round(MARKER_DURATION_S * fs))
@@ -220,45 +209,107 @@ def exponential_sweep(
     (from memory).  The half-raised-cosine fades over the first 1/6 and the last 1/24
     octave are common practice.
     """
-    f1, f2, t_s, fs, lv = _check_inputs(start_hz, stop_hz, duration_s, sample_rate_hz, level_dbfs)
-    amp = 10.0 ** (lv / 20.0)
-    core, lc = _sweep_core(f1, f2, t_s, fs)
-    if markers:
-        band = _marker_band(f1, f2)
-        m = _marker(band[0], band[1], fs)
-        lead = np.zeros(int(round(LEAD_SILENCE_S * fs)))
-        gap = np.zeros(int(round(MARKER_GAP_S * fs)))
-        parts = [lead, m, gap, core, gap, m, lead]
-        x = np.concatenate(parts)
-        m1 = lead.size
-        s0 = m1 + m.size + gap.size
-        s1 = s0 + core.size
-        m2 = s1 + gap.size
-        marker_idx: tuple[int, ...] = (m1, m2)
-        m_len = m.size
-        marker_band: tuple[float, float] | None = band
-    else:
-        x = core
-        s0, s1 = 0, core.size
-        marker_idx = ()
-        m_len = 0
-        marker_band = None
-    x = x * amp
+    layout = sweep_layout(start_hz=start_hz, stop_hz=stop_hz, duration_s=duration_s, sample_rate_hz=sample_rate_hz,
+                          level_dbfs=level_dbfs, markers=markers)
+    x = layout.chunk(0, layout.frames)
     x.setflags(write=False)
     return SweepSignal(
         samples=x,
-        sample_rate_hz=fs,
-        start_hz=f1,
-        stop_hz=f2,
-        duration_s=core.size / fs,
-        level_dbfs=lv,
-        rate_constant_s=lc,
-        sweep_start_index=int(s0),
-        sweep_stop_index=int(s1),
-        marker_start_indices=marker_idx,
-        marker_length=int(m_len),
-        marker_band_hz=marker_band,
+        sample_rate_hz=layout.sample_rate_hz,
+        start_hz=layout.start_hz,
+        stop_hz=layout.stop_hz,
+        duration_s=layout.duration_s,
+        level_dbfs=layout.level_dbfs,
+        rate_constant_s=layout.rate_constant_s,
+        sweep_start_index=layout.sweep_start_index,
+        sweep_stop_index=layout.sweep_stop_index,
+        marker_start_indices=layout.marker_start_indices,
+        marker_length=layout.marker_length,
+        marker_band_hz=layout.marker_band_hz,
     )
+
+
+@dataclass(frozen=True)
+class SweepLayout:
+    """An exponential sweep with its markers, checked but not rendered: :meth:`chunk` makes any
+    stretch of :attr:`SweepSignal.samples` on demand (the same samples), so a long sweep is written
+    in blocks with memory independent of its length.  Attributes as :class:`SweepSignal`; ``frames``
+    is the whole length in samples."""
+
+    sample_rate_hz: int
+    frames: int
+    start_hz: float
+    stop_hz: float
+    duration_s: float
+    level_dbfs: float
+    rate_constant_s: float
+    sweep_start_index: int
+    sweep_stop_index: int
+    marker_start_indices: tuple[int, ...]
+    marker_length: int
+    marker_band_hz: tuple[float, float] | None
+
+    def chunk(self, start: int, stop: int) -> np.ndarray:
+        """Samples ``start`` to ``stop`` of the whole test signal, at its level (float64)."""
+        a, b = int(start), int(stop)
+        fs = self.sample_rate_hz
+        x = np.zeros(b - a)
+        s0, s1 = self.sweep_start_index, self.sweep_stop_index
+        lo, hi = max(a, s0), min(b, s1)
+        if lo < hi:
+            n = s1 - s0
+            f1, lc = self.start_hz, self.rate_constant_s
+            idx = np.arange(lo - s0, hi - s0)
+            t = idx.astype(np.float64) / fs
+            core = np.sin(2.0 * np.pi * f1 * lc * np.expm1(t / lc))
+            n_in = min(int(round(lc * np.log(2.0) * _FADE_IN_OCTAVES * fs)), n // 4)
+            n_out = min(int(round(lc * np.log(2.0) * _FADE_OUT_OCTAVES * fs)), n // 4)
+            head = idx < n_in
+            core[head] *= _half_hann(n_in)[idx[head]]
+            if n_out > 0:
+                tail = idx >= n - n_out
+                core[tail] *= _half_hann(n_out)[::-1][idx[tail] - (n - n_out)]
+            x[lo - a:hi - a] = core
+        if self.marker_start_indices:
+            m = _marker(self.marker_band_hz[0], self.marker_band_hz[1], fs)
+            for m0 in self.marker_start_indices:
+                lo, hi = max(a, m0), min(b, m0 + m.size)
+                if lo < hi:
+                    x[lo - a:hi - a] = m[lo - m0:hi - m0]
+        return x * (10.0 ** (self.level_dbfs / 20.0))
+
+
+def sweep_layout(
+    *,
+    start_hz: float = 20.0,
+    stop_hz: float = 20000.0,
+    duration_s: float = 10.0,
+    sample_rate_hz: int = 48000,
+    level_dbfs: float = -6.0,
+    markers: bool = True,
+) -> SweepLayout:
+    """:func:`exponential_sweep` checked and laid out, not rendered (same parameters and checks)."""
+    f1, f2, t_s, fs, lv = _check_inputs(start_hz, stop_hz, duration_s, sample_rate_hz, level_dbfs)
+    n = int(round(t_s * fs))
+    lc = t_s / np.log(f2 / f1)
+    if markers:
+        band = _marker_band(f1, f2)
+        m_len = int(round(MARKER_DURATION_S * fs))
+        lead = int(round(LEAD_SILENCE_S * fs))
+        gap = int(round(MARKER_GAP_S * fs))
+        m1 = lead
+        s0 = m1 + m_len + gap
+        s1 = s0 + n
+        m2 = s1 + gap
+        total = m2 + m_len + lead
+        marker_idx: tuple[int, ...] = (m1, m2)
+        marker_band: tuple[float, float] | None = band
+    else:
+        s0, s1, total = 0, n, n
+        marker_idx = ()
+        m_len = 0
+        marker_band = None
+    return SweepLayout(fs, total, f1, f2, n / fs, lv, float(lc), int(s0), int(s1), marker_idx, int(m_len), marker_band)
 
 
 def inverse_filter(sweep: SweepSignal) -> np.ndarray:

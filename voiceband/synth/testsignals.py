@@ -15,7 +15,7 @@ the one-third-octave centres 100 Hz-8 kHz (common practice for a speech channel)
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Optional, Sequence
+from typing import Callable, Iterator, Optional, Sequence
 
 import numpy as np
 
@@ -29,6 +29,8 @@ __all__ = [
     "RenderedTestSignal",
     "default_peak_dbfs",
     "make_test_signal",
+    "StreamedTestSignal",
+    "stream_test_signal",
 ]
 
 #: The kinds of test signal, as the command line names them.
@@ -76,46 +78,107 @@ def make_test_signal(
     steps, ``tones`` to multitone, ``dwell_s``/``gap_s`` to steps (whose length follows from
     them), ``markers`` to sweep.  Each generator checks its own values.
     """
+    st = stream_test_signal(kind, sample_rate_hz=sample_rate_hz, peak_dbfs=peak_dbfs, duration_s=duration_s,
+                            low_hz=low_hz, high_hz=high_hz, tones=tones, tone_hz=tone_hz, dwell_s=dwell_s,
+                            gap_s=gap_s, markers=markers)
+    x = np.concatenate(list(st.blocks())) if st.frames else np.zeros(0)
+    return RenderedTestSignal(x, st.sample_rate_hz, st.lines)
+
+
+@dataclass(frozen=True)
+class StreamedTestSignal:
+    """A test signal to be written block by block: its rate, length, description, and the blocks.
+
+    Every parameter was checked when it was made; the blocks are rendered on demand (a first pass
+    over the tone signals finds their peak and RMS, a second renders them scaled), so memory does
+    not grow with the length (an hour at 192 kHz is 691 million samples).
+    """
+
+    sample_rate_hz: int
+    frames: int
+    lines: tuple[str, ...]
+    _chunk: Callable[[int, int], np.ndarray]
+
+    def blocks(self, block_frames: int = 1 << 18) -> Iterator[np.ndarray]:
+        """Consecutive float64 blocks of at most ``block_frames`` samples, full scale ±1.0."""
+        for a in range(0, self.frames, block_frames):
+            yield self._chunk(a, min(a + block_frames, self.frames))
+
+
+def stream_test_signal(
+    kind: str,
+    *,
+    sample_rate_hz: int,
+    peak_dbfs: Optional[float] = None,
+    duration_s: Optional[float] = None,
+    low_hz: Optional[float] = None,
+    high_hz: Optional[float] = None,
+    tones: int = 28,
+    tone_hz: Optional[Sequence[float]] = None,
+    dwell_s: float = 0.5,
+    gap_s: float = 0.1,
+    markers: bool = True,
+    block_frames: int = 1 << 18,
+) -> StreamedTestSignal:
+    """:func:`make_test_signal` as blocks: the same samples and description, in constant memory."""
     peak = default_peak_dbfs(kind) if peak_dbfs is None else peak_dbfs
     dur = DEFAULT_DURATION_S if duration_s is None else duration_s
     lines: list[str] = []
     if kind == "sweep":
-        from .sweep import exponential_sweep
+        from .sweep import sweep_layout
 
         kw = {}
         if low_hz is not None:
             kw["start_hz"] = low_hz
         if high_hz is not None:
             kw["stop_hz"] = high_hz
-        sw = exponential_sweep(duration_s=dur, sample_rate_hz=sample_rate_hz, level_dbfs=peak, markers=markers, **kw)
+        sw = sweep_layout(duration_s=dur, sample_rate_hz=sample_rate_hz, level_dbfs=peak, markers=markers, **kw)
         fs = sw.sample_rate_hz
         lines.append(f"exponential sweep {sw.start_hz:g}–{sw.stop_hz:g} Hz, {sw.duration_s:g} s, peak {sw.level_dbfs:g} dBFS")
         if markers:
             starts = ", ".join(f"{i / fs:.3f} s" for i in sw.marker_start_indices)
             lines.append(f"markers at {starts}; sweep from {sw.sweep_start_index / fs:.3f} s to {sw.sweep_stop_index / fs:.3f} s")
-        return RenderedTestSignal(sw.samples, fs, tuple(lines))
+        return StreamedTestSignal(fs, sw.frames, tuple(lines), sw.chunk)
     if kind == "multitone":
-        sig = _tones.multitone(dur, sample_rate_hz, low_hz=MULTITONE_BAND_HZ[0] if low_hz is None else low_hz,
-                               high_hz=MULTITONE_BAND_HZ[1] if high_hz is None else high_hz, n_tones=tones, peak_dbfs=peak)
-        f = sig.frequencies_hz
-        lines.append(f"Schroeder-phase multitone: {f.size} tones {f[0]:g}–{f[-1]:g} Hz, spacing {f[1] - f[0]:g} Hz")
-        lines.append(f"crest factor {sig.crest_factor_db:.2f} dB")
+        src = _tones.multitone_source(dur, sample_rate_hz, low_hz=MULTITONE_BAND_HZ[0] if low_hz is None else low_hz,
+                                      high_hz=MULTITONE_BAND_HZ[1] if high_hz is None else high_hz, n_tones=tones,
+                                      peak_dbfs=peak)
     elif kind == "two-tone":
         pair = tuple(tone_hz) if tone_hz else _tones.SSB_TWO_TONE_HZ
-        sig = _tones.two_tone(dur, sample_rate_hz, tones_hz=pair, peak_dbfs=peak)
-        lines.append("two-tone pair " + " + ".join(f"{v:g}" for v in sig.frequencies_hz) + " Hz, equal levels, "
-                     f"each {peak - 6.02:.2f} dBFS peak")
+        src = _tones.two_tone_source(dur, sample_rate_hz, tones_hz=pair, peak_dbfs=peak)
     elif kind == "tone":
-        sig = _tones.reference_tone(dur, sample_rate_hz, frequency_hz=tone_hz[0] if tone_hz else _tones.REFERENCE_TONE_HZ,
-                                    peak_dbfs=peak)
-        lines.append(f"tone {sig.frequencies_hz[0]:g} Hz")
+        src = _tones.reference_tone_source(dur, sample_rate_hz,
+                                           frequency_hz=tone_hz[0] if tone_hz else _tones.REFERENCE_TONE_HZ,
+                                           peak_dbfs=peak)
     elif kind == "steps":
         freqs = list(tone_hz) if tone_hz else _tones.third_octave_step_frequencies_hz(sample_rate_hz)
-        st = _tones.stepped_tones(freqs, sample_rate_hz, dwell_s=dwell_s, gap_s=gap_s, peak_dbfs=peak)
-        sig = st.signal
-        lines.append(f"{sig.frequencies_hz.size} stepped tones {sig.frequencies_hz[0]:g}–{sig.frequencies_hz[-1]:g} Hz, "
-                     f"{dwell_s:g} s each, {gap_s:g} s gaps; first starts at {st.starts_s[0]:.3f} s")
+        src, starts, _ = _tones.stepped_tones_source(freqs, sample_rate_hz, dwell_s=dwell_s, gap_s=gap_s,
+                                                     peak_dbfs=peak)
     else:
         raise ValueError(f"kind must be one of {', '.join(KINDS)}; got {kind!r}.")
-    lines.append(f"peak {sig.peak_dbfs:.2f} dBFS, RMS {sig.rms_dbfs:.2f} dBFS")
-    return RenderedTestSignal(sig.samples, sig.sample_rate_hz, tuple(lines))
+    # First pass: the peak the samples are scaled to, and the power for the RMS line.
+    top, energy = 0.0, 0.0
+    for a in range(0, src.frames, block_frames):
+        x = src.chunk(a, min(a + block_frames, src.frames))
+        top = max(top, float(np.max(np.abs(x))))
+        energy += float(np.dot(x, x))
+    if top == 0.0:
+        from ..errors import SignalValueError
+
+        raise SignalValueError("the requested test signal is silent (every sample is zero).")
+    scale = 10.0 ** (src.peak_dbfs / 20.0) / top
+    rms_dbfs = 10.0 * np.log10(scale * scale * energy / src.frames)
+    f = src.frequencies_hz
+    if kind == "multitone":
+        lines.append(f"Schroeder-phase multitone: {f.size} tones {f[0]:g}–{f[-1]:g} Hz, spacing {f[1] - f[0]:g} Hz")
+        lines.append(f"crest factor {src.peak_dbfs - rms_dbfs:.2f} dB")
+    elif kind == "two-tone":
+        lines.append("two-tone pair " + " + ".join(f"{v:g}" for v in f) + " Hz, equal levels, "
+                     f"each {peak - 6.02:.2f} dBFS peak")
+    elif kind == "tone":
+        lines.append(f"tone {f[0]:g} Hz")
+    else:
+        lines.append(f"{f.size} stepped tones {f[0]:g}–{f[-1]:g} Hz, "
+                     f"{dwell_s:g} s each, {gap_s:g} s gaps; first starts at {starts[0]:.3f} s")
+    lines.append(f"peak {src.peak_dbfs:.2f} dBFS, RMS {rms_dbfs:.2f} dBFS")
+    return StreamedTestSignal(src.sample_rate_hz, src.frames, tuple(lines), lambda a, b: src.chunk(a, b) * scale)

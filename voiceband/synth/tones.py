@@ -11,6 +11,7 @@ All functions are pure: they return samples and a description, and never write f
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Callable
 
 import numpy as np
 
@@ -20,6 +21,12 @@ from ..errors import SignalValueError
 
 __all__ = [
     "TestSignal",
+    "ToneSource",
+    "MIN_TONE_HZ",
+    "multitone_source",
+    "two_tone_source",
+    "reference_tone_source",
+    "stepped_tones_source",
     "SteppedTones",
     "SSB_TWO_TONE_HZ",
     "REFERENCE_TONE_HZ",
@@ -98,15 +105,23 @@ def _check_peak(peak_dbfs: float) -> float:
     return p
 
 
+#: Lowest test-tone frequency (Hz): below it a "tone" of a few seconds is not a tone but a slow
+#: drift of DC (and no voice channel passes it); common practice for audio test signals is 20 Hz and up.
+MIN_TONE_HZ = 10.0
+
+
 def _check_freqs(freqs_hz, sample_rate_hz: int, name: str) -> np.ndarray:
-    f = np.atleast_1d(np.asarray(freqs_hz, dtype=np.float64))
+    try:
+        f = np.atleast_1d(np.asarray(freqs_hz, dtype=np.float64))
+    except (TypeError, ValueError):
+        raise SignalValueError(f"{name} must be frequencies in Hz.") from None
     if f.ndim != 1 or f.size == 0:
         raise SignalValueError(f"{name} must list at least one frequency.")
     nyq = sample_rate_hz / 2.0
-    bad = f[~np.isfinite(f) | (f <= 0.0) | (f >= nyq)]
+    bad = f[~np.isfinite(f) | (f < MIN_TONE_HZ) | (f >= nyq)]
     if bad.size:
         raise SignalValueError(
-            f"{name} must lie between 0 and the Nyquist frequency {nyq:g} Hz, got {bad[0]:g} Hz."
+            f"{name} must be from {MIN_TONE_HZ:g} Hz up to the Nyquist frequency {nyq:g} Hz, got {bad[0]:g} Hz."
         )
     return f
 
@@ -136,6 +151,57 @@ def _ramp(n: int, ramp_len: int) -> np.ndarray:
         up = 0.5 - 0.5 * np.cos(np.pi * (np.arange(r) + 0.5) / r)
         env[:r] = up
         env[n - r:] = up[::-1]
+    return env
+
+
+# --------------------------------------------------------------------------- sources
+
+
+@dataclass(frozen=True)
+class ToneSource:
+    """A test signal described, not yet rendered: any stretch of it can be made on demand.
+
+    Each generator below checks every parameter and returns one of these; the signal is then
+    rendered whole (:meth:`render`) or stretch by stretch (:meth:`chunk`), with the same samples
+    either way, so a long signal is written in blocks with memory independent of its length.
+
+    Attributes
+    ----------
+    sample_rate_hz : int
+    frames : int
+        Length in samples.
+    frequencies_hz : numpy.ndarray
+    peak_dbfs : float
+        The sample peak the signal is scaled to.
+    """
+
+    __test__ = False
+
+    sample_rate_hz: int
+    frames: int
+    frequencies_hz: np.ndarray
+    peak_dbfs: float
+    _make: Callable[[int, int], np.ndarray]
+
+    def chunk(self, start: int, stop: int) -> np.ndarray:
+        """Unscaled samples ``start`` to ``stop`` (0 <= start <= stop <= frames)."""
+        return self._make(int(start), int(stop))
+
+    def render(self) -> TestSignal:
+        """The whole signal, scaled to its sample peak."""
+        return _finish(self.chunk(0, self.frames), self.sample_rate_hz, self.frequencies_hz, self.peak_dbfs)
+
+
+def _ramp_at(idx: np.ndarray, n: int, ramp_len: int) -> np.ndarray:
+    """Samples ``idx`` of :func:`_ramp` ``(n, ramp_len)``."""
+    env = np.ones(idx.size)
+    r = min(ramp_len, n // 2)
+    if r > 0:
+        up = 0.5 - 0.5 * np.cos(np.pi * (np.arange(r) + 0.5) / r)
+        head = idx < r
+        env[head] = up[idx[head]]
+        tail = idx >= n - r
+        env[tail] = up[::-1][idx[tail] - (n - r)]
     return env
 
 
@@ -198,22 +264,36 @@ def multitone(
     SignalValueError
         Bad duration, rate, level, band or tone count.
     """
+    return multitone_source(duration_s, sample_rate_hz, low_hz=low_hz, high_hz=high_hz, n_tones=n_tones,
+                            peak_dbfs=peak_dbfs, schroeder=schroeder).render()
+
+
+def multitone_source(duration_s: float, sample_rate_hz: int, *, low_hz: float = 300.0, high_hz: float = 3000.0,
+                     n_tones: int = 28, peak_dbfs: float = -6.0, schroeder: bool = True) -> ToneSource:
+    """:func:`multitone`, checked but not rendered (see :class:`ToneSource`)."""
     fs = validate.sample_rate_hz(sample_rate_hz)
     n = validate.duration_samples(duration_s, fs, maximum_s=3600.0)
     peak = _check_peak(peak_dbfs)
-    k = int(n_tones)
+    try:
+        k = int(n_tones)
+    except (TypeError, ValueError, OverflowError):
+        k = -1
     if k != n_tones or k < 2 or k > 10000:
         raise SignalValueError(f"n_tones must be a whole number from 2 to 10000, got {n_tones}.")
     if not float(low_hz) < float(high_hz):
         raise SignalValueError(f"low_hz ({low_hz} Hz) must be below high_hz ({high_hz} Hz).")
     freqs = _check_freqs(np.linspace(float(low_hz), float(high_hz), k), fs, "multitone frequencies")
     phases = schroeder_phases(k) if schroeder else np.zeros(k)
-    t = np.arange(n, dtype=np.float64) / fs
-    x = np.zeros(n)
-    # One tone at a time keeps memory at O(n); K is small (tens) for test multitones.
-    for f, ph in zip(freqs, phases):
-        x += np.cos(2.0 * np.pi * f * t + ph)
-    return _finish(x, fs, freqs, peak)
+
+    def make(a: int, b: int) -> np.ndarray:
+        t = np.arange(a, b, dtype=np.float64) / fs
+        x = np.zeros(b - a)
+        # One tone at a time keeps memory at O(n); K is small (tens) for test multitones.
+        for f, ph in zip(freqs, phases):
+            x += np.cos(2.0 * np.pi * f * t + ph)
+        return x
+
+    return ToneSource(fs, n, freqs, peak, make)
 
 
 def two_tone(
@@ -242,16 +322,26 @@ def two_tone(
     SignalValueError
         Bad duration, rate, level, or tone frequencies (two distinct, below Nyquist).
     """
+    return two_tone_source(duration_s, sample_rate_hz, tones_hz=tones_hz, peak_dbfs=peak_dbfs, ramp_s=ramp_s).render()
+
+
+def two_tone_source(duration_s: float, sample_rate_hz: int, *, tones_hz: tuple[float, float] = SSB_TWO_TONE_HZ,
+                    peak_dbfs: float = -6.0, ramp_s: float = 0.01) -> ToneSource:
+    """:func:`two_tone`, checked but not rendered (see :class:`ToneSource`)."""
     fs = validate.sample_rate_hz(sample_rate_hz)
     n = validate.duration_samples(duration_s, fs, maximum_s=3600.0)
     peak = _check_peak(peak_dbfs)
     f = _check_freqs(tones_hz, fs, "tones_hz")
     if f.size != 2 or f[0] == f[1]:
-        raise SignalValueError(f"tones_hz must be two different frequencies, got {list(f)}.")
-    t = np.arange(n, dtype=np.float64) / fs
-    x = np.cos(2.0 * np.pi * f[0] * t) + np.cos(2.0 * np.pi * f[1] * t)
-    x = x * _ramp(n, _ramp_len(ramp_s, fs))
-    return _finish(x, fs, f, peak)
+        raise SignalValueError(f"tones_hz must be two different frequencies, got {[float(v) for v in f]}.")
+    r = _ramp_len(ramp_s, fs)
+
+    def make(a: int, b: int) -> np.ndarray:
+        t = np.arange(a, b, dtype=np.float64) / fs
+        x = np.cos(2.0 * np.pi * f[0] * t) + np.cos(2.0 * np.pi * f[1] * t)
+        return x * _ramp_at(np.arange(a, b), n, r)
+
+    return ToneSource(fs, n, f, peak, make)
 
 
 def reference_tone(
@@ -269,16 +359,27 @@ def reference_tone(
     SignalValueError
         Bad duration, rate, level or frequency.
     """
+    return reference_tone_source(duration_s, sample_rate_hz, frequency_hz=frequency_hz, peak_dbfs=peak_dbfs,
+                                 ramp_s=ramp_s).render()
+
+
+def reference_tone_source(duration_s: float, sample_rate_hz: int, *, frequency_hz: float = REFERENCE_TONE_HZ,
+                          peak_dbfs: float = REFERENCE_TONE_PEAK_DBFS, ramp_s: float = 0.01) -> ToneSource:
+    """:func:`reference_tone`, checked but not rendered (see :class:`ToneSource`)."""
     fs = validate.sample_rate_hz(sample_rate_hz)
     n = validate.duration_samples(duration_s, fs, maximum_s=3600.0)
     peak = _check_peak(peak_dbfs)
     f = _check_freqs(frequency_hz, fs, "frequency_hz")
     if f.size != 1:
         raise SignalValueError("frequency_hz must be one frequency.")
-    t = np.arange(n, dtype=np.float64) / fs
-    x = np.sin(2.0 * np.pi * f[0] * t + np.pi / 2.0)  # cosine: the first sample is the peak
-    x = x * _ramp(n, _ramp_len(ramp_s, fs))
-    return _finish(x, fs, f, peak)
+    r = _ramp_len(ramp_s, fs)
+
+    def make(a: int, b: int) -> np.ndarray:
+        t = np.arange(a, b, dtype=np.float64) / fs
+        x = np.sin(2.0 * np.pi * f[0] * t + np.pi / 2.0)  # cosine: the first sample is the peak
+        return x * _ramp_at(np.arange(a, b), n, r)
+
+    return ToneSource(fs, n, f, peak, make)
 
 
 def third_octave_step_frequencies_hz(sample_rate_hz: int, *, low_hz: float = 100.0, high_hz: float = 8000.0) -> np.ndarray:
@@ -317,6 +418,21 @@ def stepped_tones(
     SignalValueError
         No frequencies, a frequency at or above Nyquist, or a non-positive dwell.
     """
+    src, starts, stops = stepped_tones_source(frequencies_hz, sample_rate_hz, dwell_s=dwell_s, gap_s=gap_s,
+                                              peak_dbfs=peak_dbfs, ramp_s=ramp_s)
+    return SteppedTones(signal=src.render(), starts_s=starts, stops_s=stops)
+
+
+def stepped_tones_source(
+    frequencies_hz,
+    sample_rate_hz: int,
+    *,
+    dwell_s: float = 0.5,
+    gap_s: float = 0.1,
+    peak_dbfs: float = -6.0,
+    ramp_s: float = 0.005,
+) -> tuple[ToneSource, np.ndarray, np.ndarray]:
+    """:func:`stepped_tones`, checked but not rendered: the source and each tone's start and stop (s)."""
     fs = validate.sample_rate_hz(sample_rate_hz)
     peak = _check_peak(peak_dbfs)
     f = _check_freqs(frequencies_hz, fs, "frequencies_hz")
@@ -331,14 +447,18 @@ def stepped_tones(
     env = _ramp(n_dwell, _ramp_len(ramp_s, fs))
     t = np.arange(n_dwell, dtype=np.float64) / fs
     total = n_gap + f.size * (n_dwell + n_gap)
-    x = np.zeros(total)
-    starts = np.empty(f.size)
-    for i, fi in enumerate(f):
-        s = n_gap + i * (n_dwell + n_gap)
-        x[s:s + n_dwell] = env * np.sin(2.0 * np.pi * fi * t)
-        starts[i] = s / fs
-    sig = _finish(x, fs, f, peak)
-    return SteppedTones(signal=sig, starts_s=starts, stops_s=starts + n_dwell / fs)
+    starts = (n_gap + np.arange(f.size) * (n_dwell + n_gap)) / fs
+
+    def make(a: int, b: int) -> np.ndarray:
+        x = np.zeros(b - a)
+        for i, fi in enumerate(f):
+            s0 = n_gap + i * (n_dwell + n_gap)
+            lo, hi = max(a, s0), min(b, s0 + n_dwell)
+            if lo < hi:
+                x[lo - a:hi - a] = env[lo - s0:hi - s0] * np.sin(2.0 * np.pi * fi * t[lo - s0:hi - s0])
+        return x
+
+    return ToneSource(fs, total, f, peak, make), starts, starts + n_dwell / fs
 
 
 def _ramp_len(ramp_s: float, fs: int) -> int:
