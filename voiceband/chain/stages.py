@@ -493,7 +493,7 @@ class Ladder(Stage):
         s = 1j * _TWO_PI * np.where(f > 0.0, f, 1e-9)
         one = np.ones_like(s)
         a, b, c, d = one, np.full_like(s, self.source_ohm), 0.0 * s, one
-        with np.errstate(over="ignore", invalid="ignore"):
+        with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
             for br in self.branches:
                 z = br.impedance(s)
                 if br.position == "series":

@@ -27,6 +27,7 @@ condition an SSB or AM transmitter at its peak-power limit meets), ties going to
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Optional, Sequence
 
 import numpy as np
@@ -90,12 +91,18 @@ class ChainComparison:
 
 
 def default_speech() -> tuple[np.ndarray, int]:
-    """The default comparison speech (:data:`DEFAULT_SPEECH`)."""
+    """The default comparison speech (:data:`DEFAULT_SPEECH`), read-only, made once per process."""
+    return _default_speech(), DEFAULT_SPEECH["sample_rate_hz"]
+
+
+@lru_cache(maxsize=1)
+def _default_speech() -> np.ndarray:
     from ..synth import synthesize_speech
 
     d = DEFAULT_SPEECH
     x = synthesize_speech(d["duration_s"], d["sample_rate_hz"], voice=d["voice"], effort=d["effort"], seed=d["seed"])
-    return x, d["sample_rate_hz"]
+    x.flags.writeable = False
+    return x
 
 
 def peak_to_average_db(x: np.ndarray) -> float:
