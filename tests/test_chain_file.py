@@ -153,3 +153,16 @@ def test_example_ladder_board_uses_the_handbook_parts():
     lad = next(s for s in read_chain(CHAINS / "board_b_ladder.toml").stages if isinstance(s, Ladder))
     values = [b.c_farad if b.c_farad is not None else b.l_henry for b in lad.branches]
     assert values == pytest.approx([54.65e-9, 51.5e-3, 176.84e-9, 51.5e-3, 54.65e-9])
+
+
+def test_chain_package_imports_light():
+    # STYLE.md habit 1 / DEVELOPERS "Start-up time matters": building chains needs no scipy.signal or matplotlib
+    import subprocess
+    import sys
+
+    code = ("import sys, voiceband, voiceband.chain, voiceband.design.sweep; "
+            "voiceband.read_chain(sys.argv[1]); "
+            "print(','.join(m for m in ('scipy.signal', 'matplotlib', 'librosa') if m in sys.modules))")
+    out = subprocess.run([sys.executable, "-c", code, str(CHAINS / "board_b_ladder.toml")],
+                         capture_output=True, text=True, check=True).stdout.strip()
+    assert out == ""
