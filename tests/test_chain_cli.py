@@ -98,7 +98,7 @@ def test_sii_in_quiet_matches_the_reference_package_with_independent_band_gains(
 
 def test_speech_model_power_below_1khz():
     # Byrne et al. (1994) LTASS: bands centred at or below 1 kHz hold about 93 % of the speech power,
-    # at or below 500 Hz about 75 % (trade notes 2, "Energy vs intelligibility", computed from the table)
+    # at or below 500 Hz about 75 % (computed from the paper's one-third-octave table)
     m = standard_speech()
     total = np.sum(m.psd)
     assert np.sum(m.psd[m.freqs_hz <= 1122.0]) / total == pytest.approx(0.93, abs=0.01)
@@ -106,7 +106,7 @@ def test_speech_model_power_below_1khz():
 
 
 def test_ssb_chain_reports_suppression_on_the_grid(tmp_path):
-    # phasing with 1 degree of quadrature error: 41.2 dB at every frequency (trade notes 8.1)
+    # phasing with 1 degree of quadrature error: 41.2 dB at every frequency (computed from the image-rejection formula, see test_chain_stages)
     p = _chain_file(tmp_path, BANDPASS + '[[stage]]\nkind = "ssb"\nphase_error_deg = 1\n')
     d = json.loads(_run("chain", p, "--json", "-").output)
     s = np.array(d["sideband_suppression_db"])

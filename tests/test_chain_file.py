@@ -149,7 +149,7 @@ def test_example_chains_read_and_respond(path):
 
 
 def test_example_ladder_board_uses_the_handbook_parts():
-    # board B's ladder is the trade notes 9.1 example (5-pole Butterworth, 600 ohm, 3 kHz)
+    # board B's ladder is the handbook example (5-pole Butterworth, 600 ohm, 3 kHz; values computed from g_k)
     lad = next(s for s in read_chain(CHAINS / "board_b_ladder.toml").stages if isinstance(s, Ladder))
     values = [b.c_farad if b.c_farad is not None else b.l_henry for b in lad.branches]
     assert values == pytest.approx([54.65e-9, 51.5e-3, 176.84e-9, 51.5e-3, 54.65e-9])

@@ -45,14 +45,14 @@ def _db(h):
 
 def _butterworth_g(n: int) -> np.ndarray:
     # g_k = 2 sin((2k - 1) pi / 2n): doubly terminated Butterworth prototype (qucs-s "Lowpass Prototype
-    # Coefficients"; rfcafe Butterworth table; trade notes 9.1)
+    # Coefficients"; rfcafe.com Butterworth prototype table)
     k = np.arange(1, n + 1)
     return 2.0 * np.sin((2 * k - 1) * np.pi / (2 * n))
 
 
 def test_butterworth_element_values_match_the_handbook_example():
     # L = g R / (2 pi fc), C = g / (2 pi fc R): n = 5, 600 ohm, 3 kHz -> C1 = 54.65 nF, L2 = 51.50 mH,
-    # C3 = 176.84 nF (filter-design handbook de-normalisation; values in trade notes 9.1)
+    # C3 = 176.84 nF (filter-design handbook de-normalisation; values computed)
     g = _butterworth_g(5)
     w = 2 * np.pi * 3000.0
     assert g[0] / (w * 600.0) * 1e9 == pytest.approx(54.65, abs=0.01)
@@ -62,7 +62,7 @@ def test_butterworth_element_values_match_the_handbook_example():
 
 @pytest.fixture(scope="module")
 def handbook_ladder():
-    # the 5-pole ladder entered as the parts a builder has (trade notes 9.1 values)
+    # the 5-pole ladder entered as the parts a builder has (the values computed above)
     return chain_from_dict({"name": "ladder", "stage": [{
         "kind": "ladder", "source_ohm": 600, "load_ohm": "600", "first": "shunt",
         "elements": ["54.65n", "51.50m", "176.84n", "51.50m", "54.65n"]}]})
@@ -74,7 +74,7 @@ def test_ladder_flat_loss_of_equal_terminations(handbook_ladder):
 
 
 def test_ladder_minus_3db_at_cutoff_and_30db_more_loss_an_octave_up(handbook_ladder):
-    # |H|^2 = 1/(1 + (f/fc)^10): -3.01 dB at fc, 30.11 dB at 2 fc (trade notes 9.1)
+    # |H|^2 = 1/(1 + (f/fc)^10): -3.01 dB at fc, 30.11 dB at 2 fc (Butterworth magnitude, computed)
     h = _db(handbook_ladder.response([10.0, 3000.0, 6000.0]))
     assert h[1] - h[0] == pytest.approx(-3.01, abs=0.02)
     assert h[0] - h[2] == pytest.approx(30.1, abs=0.05)
@@ -94,7 +94,7 @@ def test_ladder_matches_the_butterworth_magnitude_everywhere(handbook_ladder):
 def test_ladder_series_first_and_high_pass_parts():
     # dual ladder (series L first) has the same response (network duality; Zverev, Handbook of Filter
     # Synthesis, 1967, from memory); a high-pass from a series C and shunt L is the RC-like
-    # 1/(1 + (fc/f)^2) second-order Butterworth for g = sqrt(2) parts (trade notes 9.1, n = 2)
+    # 1/(1 + (fc/f)^2) second-order Butterworth for g = sqrt(2) parts (Butterworth magnitude, n = 2)
     g = _butterworth_g(3)
     w, r = 2 * np.pi * 1000.0, 600.0
     dual = chain_from_dict({"name": "d", "stage": [{
@@ -102,7 +102,7 @@ def test_ladder_series_first_and_high_pass_parts():
         "elements": [g[0] * r / w, g[1] / (w * r), g[2] * r / w]}]})
     h = _db(dual.response([10.0, 1000.0, 2000.0]))
     assert h[1] - h[0] == pytest.approx(-3.01, abs=0.01)
-    assert h[0] - h[2] == pytest.approx(18.13, abs=0.01)  # trade notes 9.1: n = 3 at 2 fc
+    assert h[0] - h[2] == pytest.approx(18.13, abs=0.01)  # computed: 10 log10(1 + 2^6), n = 3 at 2 fc
     # high-pass: series C = 1/(g1 w R), shunt L = R/(g2 w) (low-pass to high-pass transformation)
     g2 = _butterworth_g(2)
     hp = chain_from_dict({"name": "h", "stage": [{
@@ -110,7 +110,7 @@ def test_ladder_series_first_and_high_pass_parts():
         "elements": [{"c": 1.0 / (g2[0] * w * r)}, {"l": f"{r / (g2[1] * w)}H"}]}]})
     h = _db(hp.response([500.0, 1000.0, 100000.0]))
     assert h[1] - h[2] == pytest.approx(-3.01, abs=0.01)
-    assert h[2] - h[0] == pytest.approx(12.30, abs=0.01)  # trade notes 9.1: n = 2 at an octave
+    assert h[2] - h[0] == pytest.approx(12.30, abs=0.01)  # computed: 10 log10(1 + 2^4), n = 2 an octave away
 
 
 def test_ladder_resonators_make_a_notch_and_a_band_pass():
@@ -138,7 +138,7 @@ def test_ladder_resonators_make_a_notch_and_a_band_pass():
 
 
 def test_non_inverting_stage_22k_1k():
-    # G = 1 + Rf/Rg = 23 -> 27.23 dB (textbook op-amp formula; trade notes 9.2)
+    # G = 1 + Rf/Rg = 23 -> 27.23 dB (textbook op-amp formula; from memory)
     g = Gain.from_resistors(22e3, 1e3)
     assert g.gain == 23.0
     assert g.gain_db == pytest.approx(27.23, abs=0.005)
@@ -147,7 +147,7 @@ def test_non_inverting_stage_22k_1k():
 
 def test_inverting_stage_and_gbw_rolloff():
     # inverting -Rf/Rg (180 degrees); single-pole op-amp: closed-loop -3 dB at GBW / noise gain
-    # (trade notes 9.2, from memory there)
+    # (textbook single-pole model; from memory)
     inv = Gain.from_resistors(100e3, 10e3, inverting=True)
     assert inv.gain == -10.0
     assert np.degrees(np.angle(inv.response([100.0])[0])) == pytest.approx(180.0)
@@ -202,7 +202,7 @@ def test_filter_audio_follows_the_design_edges():
 
 
 def test_rc_corner_frequencies():
-    # f_c = 1/(2 pi R C): 10 uF into 10 kohm -> 1.6 Hz, 1 uF into 10 kohm -> 15.9 Hz (trade notes 9.2)
+    # f_c = 1/(2 pi R C): 10 uF into 10 kohm -> 1.6 Hz, 1 uF into 10 kohm -> 15.9 Hz (computed)
     assert RC(mode="highpass", r_ohm=10e3, c_farad=10e-6).corner_hz == pytest.approx(1.59, abs=0.01)
     rc = RC(mode="highpass", r_ohm=10e3, c_farad=1e-6)
     assert rc.corner_hz == pytest.approx(15.9, abs=0.05)
@@ -216,14 +216,14 @@ def test_rc_corner_frequencies():
 
 def test_pre_emphasis_750us_against_the_ideal_6db_per_octave_line():
     # 750 us pre-emphasis re 1 kHz: 300 Hz at -8.89 dB, 1.57 dB above the ideal 6 dB/octave line (-10.46);
-    # 3 kHz: ideal +9.54 (trade notes 1.6 "Ideal curve values" and "Caveat")
+    # computed from |1 + j 2 pi f tau|; the 750 us network is the land-mobile FM practice (from memory)
     e = Emphasis(mode="pre", tau_us=750.0)
     h = _db(e.response([300.0, 1000.0]))
     assert h[0] - h[1] == pytest.approx(-8.89, abs=0.005)
     assert (h[0] - h[1]) - 20 * np.log10(300.0 / 1000.0) == pytest.approx(1.57, abs=0.005)
     de = Emphasis(mode="de", tau_us=750.0)
     assert np.abs(e.response([1234.0]) * de.response([1234.0]))[0] == pytest.approx(1.0)
-    # 75 us: corner 2122 Hz (1 / (2 pi tau); FM broadcast practice, trade notes 5.4)
+    # 75 us: corner 2122 Hz (1 / (2 pi tau), computed; 75 us is FM broadcast practice, from memory)
     assert Emphasis(tau_us=75.0).corner_hz == pytest.approx(2122.07, abs=0.01)
 
 
@@ -297,7 +297,7 @@ def test_hard_clipped_sine_crest_factor_closed_form():
     y = Clipper(mode="hard", level_db=20 * math.log10(2.0)).process(x, FS)
     crest = 20 * np.log10(np.max(np.abs(y)) / np.sqrt(np.mean(y * y)))
     assert crest == pytest.approx(expected, abs=0.005)
-    # and it spends 1 - (2/pi) arcsin(0.5) = 66.7 % of the time at the clip level (trade notes 4);
+    # and it spends 1 - (2/pi) arcsin(0.5) = 66.7 % of the time at the clip level (analytic);
     # 480 samples a period put up to 4 boundary samples (0.8 %) on either side of the count
     assert np.mean(np.abs(y) >= 0.5 - 1e-12) == pytest.approx(0.667, abs=0.008)
 
@@ -311,7 +311,7 @@ def test_soft_clipper_is_tanh_of_the_level():
 
 def test_clipping_speech_12db_raises_its_average_to_peak_ratio_by_several_db(speech_24k):
     # 24 dB of clipping gives about 12 dB more average power at the same peak (Wathen-Dunn & Lipke,
-    # JASA 30(1), 1958); the gain cannot exceed the clipping depth (same source; trade notes 3.3)
+    # JASA 30(1), 1958); the gain cannot exceed the clipping depth (same source)
     x, fs = speech_24k
     y = Clipper(mode="hard", level_db=12.0).process(x, fs)
 
@@ -347,12 +347,13 @@ def test_compressor_static_curve_and_attack_time():
 
 
 @pytest.mark.parametrize("phase_deg, amp_db, expected", [
-    (1.0, 0.0, 41.2),   # trade notes 8.1 table
-    (0.0, 0.5, 30.8),   # trade notes 8.1 table
-    (1.0, 0.1, 39.6),   # trade notes 8.1 table
+    (1.0, 0.0, 41.2),   # computed: 10 log10 cot^2(0.5 deg)
+    (0.0, 0.5, 30.8),   # computed: 10 log10 ((1 + a)/(1 - a))^2, a = 10^(0.5/20)
+    (1.0, 0.1, 39.6),   # computed from the formula below
 ])
 def test_phasing_suppression_formula_and_measured_from_audio(phase_deg, amp_db, expected):
-    # R = (1 + 2a cos(phi) + a^2) / (1 - 2a cos(phi) + a^2) (trade notes 8.1)
+    # R = (1 + 2a cos(phi) + a^2) / (1 - 2a cos(phi) + a^2): image rejection of a quadrature modulator
+    # with gain ratio a and phase error phi (open IQ-imbalance derivations; analytic, see SSB docstring)
     assert sideband_suppression_db(phase_deg, amp_db) == pytest.approx(expected, abs=0.05)
     stage = SSB(method="phasing", phase_error_deg=phase_deg, amplitude_error_db=amp_db)
     # measured: tones through the simulated generator, wanted (+f) over unwanted (-f) line power
@@ -375,7 +376,7 @@ def test_ideal_phasing_is_single_sideband_and_passes_the_audio():
     spec = np.abs(np.fft.fft(z)) ** 2
     assert np.sum(spec[FS // 2:]) < 1e-20 * np.sum(spec[:FS // 2])  # nothing at negative frequencies
     assert stage.process(x, FS) == pytest.approx(x, abs=1e-9)
-    # envelope of an equal two-tone SSB signal: PEP = 2 x average power, 3.01 dB (trade notes 3.3)
+    # envelope of an equal two-tone SSB signal: PEP = 2 x average power, 3.01 dB (analytic)
     z2 = stage.baseband(np.cos(2 * np.pi * 1000.0 * t) + np.cos(2 * np.pi * 1700.0 * t), FS)
     assert 10 * np.log10(np.max(np.abs(z2) ** 2) / np.mean(np.abs(z2) ** 2)) == pytest.approx(3.01, abs=0.01)
 

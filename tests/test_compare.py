@@ -25,7 +25,7 @@ def speech():
 
 
 def test_peak_to_average_of_one_and_two_tones():
-    # envelope PEP over average power: single tone 0 dB, two equal tones 3.01 dB (trade notes 3.3)
+    # envelope PEP over average power: single tone 0 dB, two equal tones 3.01 dB (analytic)
     t = np.arange(FS) / FS
     assert peak_to_average_db(np.cos(2 * np.pi * 1000.0 * t)) == pytest.approx(0.0, abs=0.01)
     two = np.cos(2 * np.pi * 700.0 * t) + np.cos(2 * np.pi * 1900.0 * t)
@@ -54,7 +54,7 @@ def test_rows_and_best(compared):
     # passband reference, and with it the edge, by a few hertz)
     assert rows["linear"].edges_hz.low_3db == pytest.approx(300.0, rel=0.05)
     assert rows["linear"].occupied_bandwidth_hz < rows["plain"].occupied_bandwidth_hz
-    # clipping 12 dB lowers the peak-to-average ratio (Wathen-Dunn & Lipke 1958; trade notes 3.3)
+    # clipping 12 dB lowers the peak-to-average ratio (Wathen-Dunn & Lipke, JASA 30(1), 1958)
     assert rows["linear"].peak_to_average_db - rows["clipped"].peak_to_average_db > 3.0
     # so at the same peak power it gets the better SII; referred to average power it does not gain
     for a, b in zip(rows["clipped"].sii_by_channel_snr, rows["linear"].sii_by_channel_snr):

@@ -34,7 +34,7 @@ def test_ranges_are_inclusive():
 
 
 def test_butterworth_power_response_closed_form_matches_scipy():
-    # |H|^2 = 1/(1 + (f/fc)^2n) (trade notes 9.1) against scipy.signal.freqs of butter(analog=True)
+    # |H|^2 = 1/(1 + (f/fc)^2n) (Butterworth magnitude) against scipy.signal.freqs of butter(analog=True)
     f = np.linspace(10.0, 20000.0, 500)
     ours = filter_power_response("highpass", [300.0], f, order=4)[0]
     b, a = signal.butter(4, 2 * np.pi * 300.0, "highpass", analog=True)
@@ -64,7 +64,7 @@ def test_best_pair_under_2700_hz_is_found_again_by_brute_force_audio_filtering(s
     # Brute force: filter speech audio with every candidate pair (4th-order Butterworth high-pass then
     # low-pass, digital), measure band gains from the Welch spectra and the occupied bandwidth of the
     # output (ITU-R SM.328, 99 %), score each with the same SII definition, pick the best within 2.7 kHz
-    # (2K70J3E necessary bandwidth, trade notes 1.3).
+    # (2K70J3E necessary bandwidth, ITU-R SM.1138; from memory).
     from voiceband.intelligibility import channel_sii, standard_speech_spectrum
     from voiceband.intelligibility.tables import band_procedure
     from voiceband.measurement.bandwidth import occupied_bandwidth

@@ -172,7 +172,7 @@ def apply_response(x: np.ndarray, sample_rate_hz: int, response: Callable[[np.nd
 class Gain(Stage):
     """A gain stage: a fixed gain in dB, or an op-amp stage from its resistors.
 
-    Non-inverting: G = 1 + Rf/Rg; inverting: G = -Rf/Rg (textbook op-amp formulas; trade notes 9.2).
+    Non-inverting: G = 1 + Rf/Rg; inverting: G = -Rf/Rg (textbook op-amp formulas; from memory).
     With ``gbw_hz`` the op-amp is a single-pole amplifier of that gain-bandwidth product, so the
     closed-loop response is ``G / (1 + j f / f_3dB)`` with ``f_3dB = GBW / noise gain`` and noise gain
     ``1 + Rf/Rg`` for either connection (``max(1, |G|)`` for a gain given in dB).
@@ -582,7 +582,7 @@ class Emphasis(Stage):
     """Pre-emphasis ``1 + s tau`` or de-emphasis ``1 / (1 + s tau)``: 6 dB/octave above ``1/(2 pi tau)``.
 
     ``tau_us`` is the RC time constant in microseconds (750 µs land-mobile FM, 75 µs or 50 µs FM
-    broadcast; trade notes 5.4). The ideal network keeps rising; a real one levels off where its
+    broadcast; from memory). The ideal network keeps rising; a real one levels off where its
     second resistor takes over, far above the voice band.
     """
 
@@ -722,7 +722,9 @@ def sideband_suppression_db(phase_error_deg: float, amplitude_error_db: float) -
     """Unwanted-sideband suppression of a phasing generator, dB.
 
     ``R = (1 + 2a cos(phi) + a^2) / (1 - 2a cos(phi) + a^2)`` with ``a`` the amplitude ratio of the
-    two paths and ``phi`` the quadrature error; suppression ``10 log10 R`` (trade notes 8.1).
+    two paths and ``phi`` the quadrature error; suppression ``10 log10 R`` (the image-rejection ratio of
+    quadrature imbalance, as derived in open IQ-imbalance texts; the two-tone analysis of the phasing
+    generator gives the same expression).
     """
     a = 10.0 ** (amplitude_error_db / 20.0)
     c = math.cos(math.radians(phase_error_deg))

@@ -37,7 +37,7 @@ def chain(
 
     for target in (plot, None if json_path in (None, "-") else Path(json_path)):
         if target is not None:
-            check_writable(target, force=force)  # refuse before the work, not after
+            check_writable(target, force=force, inputs=(chain_file,) + ((measured,) if measured is not None else ()))  # refuse before the work
     c = read_chain(chain_file)
     evaluation = evaluate_chain(c, snrs_db=channel_snr or None)
     comparison = None

@@ -39,7 +39,7 @@ def compare(
 
     for target in (plot, None if json_path in (None, "-") else Path(json_path)):
         if target is not None:
-            check_writable(target, force=force)
+            check_writable(target, force=force, inputs=tuple(chain_files) + ((speech,) if speech is not None else ()))  # refuse before the work
     chains = [read_chain(p) for p in chain_files]
     if speech is None:
         x, fs = default_speech()

@@ -43,7 +43,7 @@ def sweep(
 
     for target in (plot, None if json_path in (None, "-") else Path(json_path)):
         if target is not None:
-            check_writable(target, force=force)
+            check_writable(target, force=force, inputs=(speech,) if speech is not None else ())  # refuse before the work
     lows = parse_range(low, name="--low")
     highs = parse_range(high, name="--high")
     model = None

@@ -13,7 +13,7 @@ nonlinear alike -- and the output is measured:
   lowers that ratio, i.e. raises average power at the same peak power: the talk power that matters on SSB.
 * **Peak-to-average ratio**: peak envelope power over average power, the envelope from the analytic
   signal (``|x + j H{x}|^2 / 2`` is the power an SSB transmitter puts out for this audio): 0 dB for one
-  tone, 3.01 dB for two equal tones (trade notes 3.3).
+  tone, 3.01 dB for two equal tones (analytic).
 * **STOI** of the output against the input (Taal et al. 2011), the output aligned by cross-correlation.
 * **Occupied bandwidth** (99 %, 20 Hz to the Nyquist frequency) of the output.
 * **Clipped fraction**: the share of samples that the chain's clipper stages held at their clip level

@@ -117,7 +117,7 @@ def filter_power_response(kind: str, cutoffs_hz, freqs_hz, *, order: int, type: 
     out = np.empty((len(cutoffs_hz), f.size))
     for i, fc in enumerate(cutoffs_hz):
         if type == "butterworth":
-            # |H|^2 = 1 / (1 + (f/fc)^2n) (low-pass), (fc/f)^2n for the high-pass (trade notes 9.1)
+            # |H|^2 = 1 / (1 + (f/fc)^2n) (low-pass), (fc/f)^2n for the high-pass (Butterworth magnitude)
             with np.errstate(divide="ignore", over="ignore"):
                 ratio = (f / fc) if kind == "lowpass" else (fc / np.where(f > 0, f, 1e-12))
                 out[i] = 1.0 / (1.0 + ratio ** (2 * order))
