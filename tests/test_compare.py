@@ -106,3 +106,11 @@ def test_cli_example_boards(tmp_path, speech, write_wav):
     assert "Best:" in res.output
     res = runner.invoke(app, ["compare", files[0], "--speech", str(tmp_path / "missing.wav")])
     assert res.exit_code == 2 and "Traceback" not in res.output
+
+
+def test_a_chain_the_speech_rate_cannot_carry_is_named(tmp_path):
+    p = tmp_path / "wide.toml"
+    p.write_text('name = "wide"\n[[stage]]\nkind = "lowpass"\norder = 4\ncutoff_hz = "15k"\n', encoding="utf-8")
+    res = runner.invoke(app, ["compare", str(p)])
+    assert res.exit_code == 2
+    assert "'wide.toml' cannot run on the speech at 24000 Hz" in res.output and "Nyquist" in res.output

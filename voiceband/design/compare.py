@@ -28,11 +28,12 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from functools import lru_cache
+from pathlib import Path
 from typing import Optional, Sequence
 
 import numpy as np
 
-from ..errors import MeasurementError
+from ..errors import MeasurementError, SignalValueError
 from ..response.metrics import PassbandEdges
 
 __all__ = ["ChainComparison", "ComparedChain", "compare_chains", "default_speech", "peak_to_average_db",
@@ -257,7 +258,13 @@ def compare_chains(chains: Sequence, samples, sample_rate_hz: int, *, snrs_db: O
     snrs = np.asarray(DEFAULT_SNRS_DB if not snrs_db else snrs_db, dtype=np.float64)
     band = tuple(DEFAULT_RECEIVE_BAND_HZ if receive_band_hz is None else receive_band_hz)
     f, clean = _welch(x, fs)
-    rows = [_one(c, x, fs, clean, f, snrs, band) for c in chains]
+    rows = []
+    for c in chains:
+        try:
+            rows.append(_one(c, x, fs, clean, f, snrs, band))
+        except (SignalValueError, MeasurementError) as exc:
+            where = f"'{Path(c.path).name}'" if c.path else f"chain '{c.name}'"
+            raise MeasurementError(f"{where} cannot run on the speech at {fs} Hz: {str(exc).rstrip('.')}.") from None
 
     def key(r: ComparedChain):
         return (round(float(np.mean([p.sii_peak_ref for p in r.sii_by_channel_snr])), 6), r.stoi or 0.0)
