@@ -78,19 +78,19 @@ def _print_table(r: Any, plot: Optional[Path]) -> None:
     snrs = list(r.snrs_db)
     typer.echo(f"Speech: {r.speech}, {r.duration_s:.1f} s at {r.sample_rate_hz} Hz; channel noise in "
                f"{r.receive_band_hz[0]:g}–{r.receive_band_hz[1]:g} Hz")
-    head = f"{'chain':<28} {'occupied':>9} {'−3 dB edges':>13} {'SII quiet':>9} {'STOI':>5} {'PAPR':>6} {'clipped':>8}"
+    head = f"{'chain':<40} {'occupied':>9} {'−3 dB edges':>13} {'SII quiet':>9} {'STOI':>5} {'PAPR':>6} {'clipped':>8}"
     typer.echo(head)
     for row in r.chains:
         e = row.edges_hz
         edges = f"{_f(e.low_3db, '.0f')}–{_f(e.high_3db, '.0f')}"
         mark = "*" if row.best else " "
-        typer.echo(f"{mark}{row.name[:27]:<27} {row.occupied_bandwidth_hz:>6.0f} Hz {edges:>13} {row.sii_quiet:>9.3f} "
+        typer.echo(f"{mark}{row.name[:39]:<39} {row.occupied_bandwidth_hz:>6.0f} Hz {edges:>13} {row.sii_quiet:>9.3f} "
                    f"{_f(row.stoi, '.3f'):>5} {row.peak_to_average_db:>4.1f}dB {100 * row.clipped_fraction:>7.2f}%")
     typer.echo("SII with channel noise, SNR referred to average power / to peak power:")
-    typer.echo(f"{'chain':<28} " + " ".join(f"{f'{s:g} dB':>13}" for s in snrs))
+    typer.echo(f"{'chain':<40} " + " ".join(f"{f'{s:g} dB':>13}" for s in snrs))
     for row in r.chains:
         cells = " ".join(f"{p.sii_average_ref:>6.3f}/{p.sii_peak_ref:<6.3f}" for p in row.sii_by_channel_snr)
-        typer.echo(f"{' ' if not row.best else '*'}{row.name[:27]:<27} {cells}")
+        typer.echo(f"{' ' if not row.best else '*'}{row.name[:39]:<39} {cells}")
     typer.echo(f"Best: {r.reason}")
     if plot is not None:
         typer.echo(f"Plot: {plot}")
