@@ -34,6 +34,7 @@ from typing import Union
 
 import numpy as np
 
+from .. import validate
 from ..errors import MeasurementError, SignalValueError
 from .tables import (
     DEFAULT_NOISE_SPECTRUM_DB,
@@ -371,27 +372,6 @@ def band_importance(importance: Union[str, ArrayLike] = "average", *, procedure:
     return weights
 
 
-def _levels(values: ArrayLike, name: str, n_bands: int, procedure: str, *, allow_minus_inf: bool) -> np.ndarray:
-    try:
-        arr = np.asarray(values, dtype=np.float64)
-    except (TypeError, ValueError):
-        raise SignalValueError(f"{name} must be numbers in dB; got {type(values).__name__}.") from None
-    if arr.ndim == 0:
-        arr = np.broadcast_to(arr, (n_bands,))
-    if arr.shape[-1] != n_bands:
-        raise SignalValueError(
-            f"{name} must have {n_bands} bands on its last axis for the {procedure} procedure; "
-            f"got shape {arr.shape}."
-        )
-    if allow_minus_inf:
-        bad = np.isnan(arr) | (arr == np.inf)
-        if np.any(bad):
-            raise SignalValueError(f"{name} contains NaN or +inf; levels must be finite dB or -inf (no power).")
-    elif not np.all(np.isfinite(arr)):
-        raise SignalValueError(f"{name} must be finite dB values.")
-    return arr
-
-
 def _readonly(arr: np.ndarray) -> np.ndarray:
     if arr.flags.writeable:
         arr.setflags(write=False)
@@ -463,13 +443,15 @@ def sii(
     n = table.n_bands
     weights = band_importance(importance, procedure=procedure)
 
-    e = _levels(speech_db, "speech_db", n, procedure, allow_minus_inf=True)
+    e = validate.band_levels_db(speech_db, name="speech_db", n_bands=n, procedure=procedure, scalar_ok=True)
     nz = (
         np.full(n, DEFAULT_NOISE_SPECTRUM_DB)
         if noise_db is None
-        else _levels(noise_db, "noise_db", n, procedure, allow_minus_inf=True)
+        else validate.band_levels_db(noise_db, name="noise_db", n_bands=n, procedure=procedure, scalar_ok=True)
     )
-    t = np.zeros(n) if threshold_db is None else _levels(threshold_db, "threshold_db", n, procedure, allow_minus_inf=False)
+    t = (np.zeros(n) if threshold_db is None
+         else validate.band_levels_db(threshold_db, name="threshold_db", n_bands=n, procedure=procedure,
+                                      minus_inf_ok=False, scalar_ok=True))
     try:
         e, nz, t, _ = np.broadcast_arrays(e, nz, t, weights)
     except ValueError:
