@@ -27,7 +27,7 @@ from .stages import (
     apply_response,
     sideband_suppression_db,
 )
-from .units import parse_value
+from .values import parse_value
 
 __all__ = [
     "Chain",

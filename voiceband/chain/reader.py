@@ -47,7 +47,7 @@ from .stages import (
     LadderBranch,
     Microphone,
 )
-from .units import parse_value
+from .values import parse_value
 
 __all__ = ["STAGE_PARAMETERS", "read_chain", "chain_from_dict"]
 

@@ -34,7 +34,7 @@ from typing import Optional, Sequence
 import numpy as np
 
 from ..errors import MeasurementError, SignalValueError
-from ..response.metrics import PassbandEdges
+from ..response.metrics import ResponseEdges
 
 __all__ = ["ChainComparison", "ComparedChain", "compare_chains", "default_speech", "peak_to_average_db",
            "DEFAULT_SPEECH"]
@@ -64,7 +64,7 @@ class ComparedChain:
     occupied_bandwidth_hz: float
     occupied_low_hz: float
     occupied_high_hz: float
-    edges_hz: PassbandEdges
+    edges_hz: ResponseEdges
     sii_quiet: float
     sii_by_channel_snr: tuple
     stoi: Optional[float]

@@ -22,7 +22,7 @@ import numpy as np
 
 from ..errors import MeasurementError
 from ..measurement.bandwidth import OccupiedBandwidth
-from ..response.metrics import PassbandEdges
+from ..response.metrics import ResponseEdges
 
 __all__ = [
     "DEFAULT_SNRS_DB",
@@ -55,7 +55,7 @@ class ResponseFigures:
     """Figures read off a magnitude response (see :mod:`voiceband.response.metrics`)."""
 
     gain_db: float
-    edges_hz: PassbandEdges
+    edges_hz: ResponseEdges
     ripple_db: Optional[float]
 
 
@@ -73,7 +73,7 @@ class ChainEvaluation:
         Passband gain (±1/24-octave power-smoothed maximum), dB.
     ripple_db : float or None
         Passband ripple, dB.
-    edges_hz : PassbandEdges
+    edges_hz : ResponseEdges
         -3 and -10 dB edges re ``gain_db``, Hz (None where the response does not fall that far).
     sii_quiet : float
     sii_by_channel_snr : tuple of ChannelSIIPoint
@@ -93,7 +93,7 @@ class ChainEvaluation:
     group_delay_s: np.ndarray
     gain_db: float
     ripple_db: Optional[float]
-    edges_hz: PassbandEdges
+    edges_hz: ResponseEdges
     sii_quiet: float
     sii_by_channel_snr: tuple
     receive_band_hz: tuple
@@ -104,7 +104,7 @@ class ChainEvaluation:
 
 def response_figures(frequencies_hz, magnitude_db) -> ResponseFigures:
     """Passband gain, edges and ripple of a magnitude response (dB, absolute)."""
-    from ..response.metrics import passband_edges, passband_level_db, passband_ripple_db
+    from ..response.metrics import passband_level_db, passband_ripple_db, response_edges
 
     f = np.asarray(frequencies_hz, dtype=np.float64)
     m = np.asarray(magnitude_db, dtype=np.float64)
@@ -112,7 +112,7 @@ def response_figures(frequencies_hz, magnitude_db) -> ResponseFigures:
     if not np.isfinite(gain):
         raise MeasurementError("the chain passes nothing (its response is zero at every frequency).")
     rel = m - gain
-    edges = passband_edges(f, rel, peak)
+    edges = response_edges(f, rel, peak)
     return ResponseFigures(gain, edges, passband_ripple_db(f, rel, edges))
 
 

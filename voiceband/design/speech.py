@@ -55,14 +55,13 @@ def _grid(top_hz: float = PSD_TOP_HZ) -> np.ndarray:
 
 def standard_speech() -> SpeechModel:
     """The standard speech model (see the module docstring)."""
-    from ..bands import band_limits_hz
     from ..intelligibility import standard_speech_spectrum
     from ..reference_spectra import reference_band_levels_db
 
-    nominal, band_db = reference_band_levels_db("byrne1994")
-    lo, hi = band_limits_hz(nominal)
-    spectrum_db = np.asarray(band_db) - 10.0 * np.log10(hi - lo)
-    centres = np.sqrt(lo * hi)
+    spectrum = reference_band_levels_db("byrne1994").as_spectrum()
+    lo, hi = spectrum.bands.lower_hz, spectrum.bands.upper_hz
+    spectrum_db = spectrum.levels_db
+    centres = spectrum.bands.centre_hz
     f = _grid()
     inside = (f >= lo[0]) & (f <= hi[-1])
     level = np.interp(np.log(np.where(f > 0, f, 1.0)), np.log(centres), spectrum_db)
