@@ -456,3 +456,24 @@ def test_standard_speech_distance_and_gain():
         standard_speech_spectrum("whisper")
     with pytest.raises(MeasurementError, match="distance_m"):
         standard_speech_spectrum(distance_m=0.0)
+
+
+@pytest.mark.parametrize("procedure", ["one-third-octave", "critical-band", "equal-critical-band", "octave"])
+def test_sii_index_equals_full_result(procedure):
+    # The index-only path must give exactly sii(...).index (same chain, chunked through a reused block);
+    # batch larger than one chunk, with -inf bands, broadcast noise and per-row importance.
+    from voiceband.intelligibility import band_procedure, sii_index
+
+    n = band_procedure(procedure).n_bands
+    rng = np.random.default_rng(11)
+    rows = 5000
+    e = rng.uniform(-10, 90, (rows, n))
+    e[::7, 0] = -np.inf
+    noise = rng.uniform(-20, 70, (1, n))
+    t = rng.uniform(0, 30, (rows, n))
+    assert np.array_equal(sii_index(e, noise, t, procedure=procedure), sii(e, noise, t, procedure=procedure).index)
+    w = rng.uniform(0, 1, (rows, n))
+    w /= w.sum(axis=-1, keepdims=True)
+    np.testing.assert_allclose(sii_index(e, noise, t, procedure=procedure, importance=w),
+                               sii(e, noise, t, procedure=procedure, importance=w).index, rtol=0, atol=1e-15)
+    assert isinstance(sii_index(e[0], noise[0], t[0], procedure=procedure), float)

@@ -60,6 +60,7 @@ _LAZY = {
     "measure_activity": ("voiceband.measurement.activity", "measure_activity"),
     "measure_voice": ("voiceband.measurement.voice", "measure_voice"),
     "sii": ("voiceband.intelligibility", "sii"),
+    "sii_index": ("voiceband.intelligibility", "sii_index"),
     "band_gains_db": ("voiceband.intelligibility", "band_gains_db"),
     "channel_sii": ("voiceband.intelligibility", "channel_sii"),
     "sii_vs_channel_snr": ("voiceband.intelligibility", "sii_vs_channel_snr"),
