@@ -8,7 +8,9 @@ from typing import Optional
 import numpy as np
 
 from ..errors import SignalValueError
-from .stages import SSB, Channel, _audio, _freqs
+from .base import _audio, _freqs
+from .channel import Channel
+from .ssb import SSB
 
 __all__ = ["Chain"]
 

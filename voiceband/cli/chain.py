@@ -33,7 +33,7 @@ def chain(
     from ..chain import read_chain
     from ..design.evaluate import compare_measured, evaluate_chain, load_measured
     from ..outputs import atomic_output, check_writable
-    from ..report.design_json import chain_document
+    from ..design.document import chain_document
 
     for target in (plot, None if json_path in (None, "-") else Path(json_path)):
         if target is not None:

@@ -35,7 +35,7 @@ def compare(
     from ..chain import read_chain
     from ..design.compare import compare_chains, default_speech
     from ..outputs import atomic_output, check_writable
-    from ..report.design_json import compare_document
+    from ..design.document import compare_document
 
     for target in (plot, None if json_path in (None, "-") else Path(json_path)):
         if target is not None:
@@ -51,18 +51,10 @@ def compare(
         name = speech.name
     result = compare_chains(chains, x, fs, snrs_db=channel_snr or None, speech_name=name)
     if plot is not None:
-        import numpy as np
-
-        from ..design.evaluate import response_figures, response_grid
+        from ..design.compare import response_curves
         from ..report.design_plots import compare_figure
 
-        f = response_grid()
-        curves = []
-        for c in chains:
-            with np.errstate(divide="ignore"):
-                m = 20.0 * np.log10(np.abs(c.response(f)))
-            curves.append((f, m - response_figures(f, m).gain_db))
-        fig = compare_figure(result, curves)
+        fig = compare_figure(result, response_curves(chains))
         with atomic_output(plot, force=force) as tmp:
             fig.savefig(tmp, format="png")
     if json_path != "-":

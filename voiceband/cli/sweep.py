@@ -39,7 +39,7 @@ def sweep(
     within the bandwidth limit, the Pareto front of SII against occupied bandwidth, and a heat map."""
     from ..design.sweep import parse_range, sweep_cutoffs
     from ..outputs import atomic_output, check_writable
-    from ..report.design_json import sweep_document
+    from ..design.document import sweep_document
 
     for target in (plot, None if json_path in (None, "-") else Path(json_path)):
         if target is not None:

@@ -37,7 +37,7 @@ from ..errors import MeasurementError, SignalValueError
 from ..response.metrics import ResponseEdges
 
 __all__ = ["ChainComparison", "ComparedChain", "compare_chains", "default_speech", "peak_to_average_db",
-           "DEFAULT_SPEECH"]
+           "response_curves", "DEFAULT_SPEECH"]
 
 #: The default speech: the corpus generator's reference talker (medium voice, normal effort, seed 1,
 #: P.56 active level -26 dBFS, as ``corpus_synthetic/speech_medium_normal.toml``), 6 s at 24 kHz.
@@ -276,3 +276,16 @@ def compare_chains(chains: Sequence, samples, sample_rate_hz: int, *, snrs_db: O
     rows = [replace(r, best=(r is best)) for r in rows]
     return ChainComparison(tuple(rows), best.name, reason, tuple(float(s) for s in snrs), band, speech_name, fs,
                            x.size / fs)
+
+
+def response_curves(chains: Sequence) -> list:
+    """(frequencies_hz, magnitude dB re passband) of each chain's linear stages, for the overlay figure."""
+    from .evaluate import response_figures, response_grid
+
+    f = response_grid()
+    curves = []
+    for c in chains:
+        with np.errstate(divide="ignore"):
+            m = 20.0 * np.log10(np.abs(c.response(f)))
+        curves.append((f, m - response_figures(f, m).gain_db))
+    return curves

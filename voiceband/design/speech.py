@@ -8,7 +8,7 @@ Two models:
   interpolated in spectrum level (dB per Hz) against log frequency between one-third-octave centres
   and zero outside its outermost band edges.
 * :func:`talker_speech` -- a recording of the user's own voice: the long-term PSD of its speech frames
-  (:func:`voiceband.measurement.spectrum.analyze_spectrum`) gives both, its SII band levels shifted to
+  (:func:`voiceband.analysis.measure_recording`) gives both, its SII band levels shifted to
   the same 62.35 dB SPL overall so only the talker's spectral shape differs from the standard.
 """
 
@@ -106,12 +106,11 @@ def speech_from_psd(name: str, freqs_hz, psd) -> SpeechModel:
 def talker_speech(samples, sample_rate_hz: int, *, name: str = "talker") -> SpeechModel:
     """A speech model from a recording of one talker (speech frames only, pauses left out)."""
     from .. import validate
-    from ..measurement.spectrum import analyze_spectrum
+    from ..analysis import measure_recording
 
     fs = validate.sample_rate_hz(sample_rate_hz)
     x = validate.finite_samples(validate.block(samples))
-    result = analyze_spectrum(x, fs)
-    spec = result.spectrum
+    spec = measure_recording(x, fs).spectrum
     if spec is None or spec.speech_psd_fs2_per_hz is None:
         raise MeasurementError(
             f"no speech found in '{name}' (too short, silent or steady); record at least a few seconds of speech.")
