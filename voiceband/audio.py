@@ -7,9 +7,7 @@ files are streamed in blocks so memory does not grow with file length.
 
 from __future__ import annotations
 
-import errno
 import os
-import stat
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Iterable, Iterator, Union
@@ -87,13 +85,9 @@ def info(path: Union[str, os.PathLike]) -> AudioInfo:
         rate is outside 8–192 kHz.
     """
     p = Path(path)
-    st = _stat_input(p)
-    if stat.S_ISDIR(st.st_mode):
-        raise AudioInputError(f"'{p}' is a folder, not an audio file.")
-    if not stat.S_ISREG(st.st_mode):
-        raise AudioInputError(f"'{p}' is {_kind(st.st_mode)}, not an audio file; voiceband reads regular files only.")
-    if not os.access(p, os.R_OK):
-        raise AudioInputError(f"'{p}' cannot be read (permission denied).")
+    from .inputs import regular_file
+
+    st = regular_file(p, what="an audio file", error=AudioInputError)
     if st.st_size == 0:
         raise AudioFormatError(f"'{p}' is empty (0 bytes).")
     sf = _sf()
@@ -129,64 +123,6 @@ def _native(path: Union[str, os.PathLike]) -> bytes:
     """The name to hand libsndfile: absolute (so a file called ``-`` is never standard input) and in the
     file system's own bytes (so names that are not UTF-8 open too)."""
     return os.fsencode(os.path.abspath(path))
-
-
-def _stat_input(p: Path) -> os.stat_result:
-    """``os.stat`` of an input, its failures said in one sentence of ours."""
-    try:
-        return os.stat(p)
-    except FileNotFoundError:
-        raise AudioInputError(f"No such file: '{p}'.") from None
-    except PermissionError:
-        raise AudioInputError(
-            f"cannot reach '{p}': no permission to enter one of its folders.") from None
-    except OSError as exc:
-        if exc.errno == errno.ENAMETOOLONG:
-            raise AudioInputError(
-                f"'{_clip(p)}' cannot be a file: a part of the name is longer than the file system allows "
-                f"({_name_max(p)} bytes).") from None
-        if exc.errno == errno.ENOTDIR:
-            raise AudioInputError(f"No such file: '{p}' (a part of the path is a file, not a folder).") from None
-        if exc.errno == errno.ELOOP:
-            raise AudioInputError(f"cannot open '{p}': too many levels of symbolic links.") from None
-        raise AudioInputError(f"cannot open '{p}': {os.strerror(exc.errno or errno.EIO).lower()}.") from None
-
-
-def _clip(p: Path, n: int = 60) -> str:
-    s = str(p)
-    return s if len(s) <= n else s[: n - 1] + "…"
-
-
-def _name_max(p: Path) -> int:
-    try:
-        return os.pathconf(_existing_folder(p), "PC_NAME_MAX")
-    except (OSError, ValueError):
-        return 255
-
-
-def _existing_folder(p: Path) -> Path:
-    q = p.parent
-    while True:
-        try:
-            if q.is_dir():
-                return q
-        except OSError:
-            pass
-        if q.parent == q:
-            return q
-        q = q.parent
-
-
-def _kind(mode: int) -> str:
-    if stat.S_ISFIFO(mode):
-        return "a named pipe (FIFO)"
-    if stat.S_ISSOCK(mode):
-        return "a socket"
-    if stat.S_ISCHR(mode):
-        return "a device"
-    if stat.S_ISBLK(mode):
-        return "a device"
-    return "not a regular file"
 
 
 def _short(exc: Exception) -> str:

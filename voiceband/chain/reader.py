@@ -111,9 +111,12 @@ def read_chain(path: Union[str, os.PathLike]) -> Chain:
         Missing or unreadable file, not TOML, no name or stages, an unknown stage kind or parameter, a
         value in the wrong unit or out of range: one sentence naming the file, the stage and the fix.
     """
+    from ..inputs import regular_file
+
     p = Path(path)
-    if not p.is_file():
+    if not p.exists() and not p.is_symlink():
         raise ChainFileError(f"no chain file at '{p}'; give the path of a .toml chain file.")
+    regular_file(p, what="a chain file", error=ChainFileError)
     try:
         text = p.read_text(encoding="utf-8")
     except UnicodeDecodeError:

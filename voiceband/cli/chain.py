@@ -13,14 +13,14 @@ from .common import emit_json, guarded
 
 @guarded
 def chain(
-    chain_file: Annotated[Path, typer.Argument(help="Chain file (TOML: name and [[stage]] tables).", show_default=False)],
-    plot: Annotated[Optional[Path], typer.Option("--plot", help="Write a Bode-style figure (PNG) to FILE.", metavar="FILE")] = None,
+    chain_file: Annotated[Path, typer.Argument(help="Chain file (TOML: name and [[stage]] tables).", show_default=False, readable=False)],
+    plot: Annotated[Optional[Path], typer.Option("--plot", help="Write a Bode-style figure (PNG) to FILE.", metavar="FILE", readable=False)] = None,
     json_path: Annotated[
         Optional[str], typer.Option("--json", help="Also write JSON to PATH; '-' prints only JSON on stdout.", metavar="PATH|-")
     ] = None,
     measured: Annotated[
         Optional[Path], typer.Option("--measured", help="A response JSON from 'voiceband response' to hold against the design.",
-                                     metavar="RESPONSE.json")
+                                     metavar="RESPONSE.json", readable=False)
     ] = None,
     channel_snr: Annotated[
         Optional[list[float]], typer.Option("--channel-snr", help="Channel SNR in dB for the SII (repeatable; default 0, 5, 10, 15, 20).",

@@ -13,10 +13,10 @@ from .common import emit_json, guarded
 
 @guarded
 def compare(
-    chain_files: Annotated[list[Path], typer.Argument(help="Chain files to compare (TOML).", show_default=False)],
+    chain_files: Annotated[list[Path], typer.Argument(help="Chain files to compare (TOML).", show_default=False, readable=False)],
     speech: Annotated[
         Optional[Path], typer.Option("--speech", help="Speech recording to run through the chains (default: synthetic speech).",
-                                     metavar="FILE")
+                                     metavar="FILE", readable=False)
     ] = None,
     channel_snr: Annotated[
         Optional[list[float]], typer.Option("--channel-snr", help="Channel SNR in dB (repeatable; default 0, 5, 10, 15, 20).",
@@ -25,7 +25,7 @@ def compare(
     json_path: Annotated[
         Optional[str], typer.Option("--json", help="Also write JSON to PATH; '-' prints only JSON on stdout.", metavar="PATH|-")
     ] = None,
-    plot: Annotated[Optional[Path], typer.Option("--plot", help="Write an overlay figure (PNG) to FILE.", metavar="FILE")] = None,
+    plot: Annotated[Optional[Path], typer.Option("--plot", help="Write an overlay figure (PNG) to FILE.", metavar="FILE", readable=False)] = None,
     channel: Annotated[str, typer.Option("--channel", "-c", help="Channel of the speech file: a number from 0, or 'mix'.")] = "0",
     force: Annotated[bool, typer.Option("--force", help="Overwrite existing output files.")] = False,
 ) -> None:

@@ -27,12 +27,12 @@ def sweep(
     ] = None,
     speech: Annotated[
         Optional[Path], typer.Option("--speech", help="A recording of your own voice: score against its long-term spectrum.",
-                                     metavar="FILE")
+                                     metavar="FILE", readable=False)
     ] = None,
     json_path: Annotated[
         Optional[str], typer.Option("--json", help="Also write JSON to PATH; '-' prints only JSON on stdout.", metavar="PATH|-")
     ] = None,
-    plot: Annotated[Optional[Path], typer.Option("--plot", help="Write the heat map (PNG) to FILE.", metavar="FILE")] = None,
+    plot: Annotated[Optional[Path], typer.Option("--plot", help="Write the heat map (PNG) to FILE.", metavar="FILE", readable=False)] = None,
     force: Annotated[bool, typer.Option("--force", help="Overwrite existing output files.")] = False,
 ) -> None:
     """Grid search over high-pass and low-pass cutoffs scored with the band-gain SII model: the best pair

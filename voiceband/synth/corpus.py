@@ -51,7 +51,6 @@ from __future__ import annotations
 
 import contextlib
 import os
-import stat
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable, Iterable, Union
@@ -220,16 +219,11 @@ def read_spec(path: Union[str, os.PathLike]) -> CorpusSpec:
     from .speech import EFFORTS, VOICES
 
     p = Path(path)
-    try:
-        st = os.stat(p)
-    except FileNotFoundError:
-        raise ChainFileError(f"No such spec file: '{p}'.") from None
-    except OSError as exc:
-        raise ChainFileError(f"cannot open the spec file '{p}': {os.strerror(exc.errno or 5).lower()}.") from None
-    if stat.S_ISDIR(st.st_mode):
-        raise ChainFileError(f"'{p}' is a folder, not a spec file; give .toml spec files.")
-    if not stat.S_ISREG(st.st_mode):
-        raise ChainFileError(f"'{p}' is not a regular file; give .toml spec files.")
+    from ..inputs import regular_file
+
+    if not p.exists() and not p.is_symlink():
+        raise ChainFileError(f"No such spec file: '{p}'.")
+    st = regular_file(p, what="a spec file", error=ChainFileError)
     if st.st_size > _MAX_SPEC_BYTES:
         raise ChainFileError(f"'{p}' is {st.st_size} bytes long; a spec file is a short TOML text (at most 1 MB).")
     try:
