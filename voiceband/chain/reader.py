@@ -114,7 +114,7 @@ def read_chain(path: Union[str, os.PathLike]) -> Chain:
     from ..inputs import regular_file
 
     p = Path(path)
-    if not p.exists() and not p.is_symlink():
+    if not os.path.lexists(p):
         raise ChainFileError(f"no chain file at '{p}'; give the path of a .toml chain file.")
     regular_file(p, what="a chain file", error=ChainFileError)
     try:

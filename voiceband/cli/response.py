@@ -34,10 +34,10 @@ def response(
 
     png = None
     if out is not None:
-        if out.exists() and not out.is_dir():
-            raise OutputExistsError(f"'{out}' is a file; --out needs a folder.")
         png = out / f"{recording.stem}_response.png"
         check_writable(png, force=force, make_folders=True, inputs=(stimulus, recording))  # refuse before the work
+        if out.exists() and not out.is_dir():
+            raise OutputExistsError(f"'{out}' is a file; --out needs a folder.")
     # A missing folder is made only when it is the --out folder (as the README's example writes the JSON there).
     json_in_out = out is not None and json_path not in (None, "-") and Path(json_path).resolve().parent == out.resolve()
     if json_path not in (None, "-"):

@@ -221,7 +221,7 @@ def read_spec(path: Union[str, os.PathLike]) -> CorpusSpec:
     p = Path(path)
     from ..inputs import regular_file
 
-    if not p.exists() and not p.is_symlink():
+    if not os.path.lexists(p):
         raise ChainFileError(f"No such spec file: '{p}'.")
     st = regular_file(p, what="a spec file", error=ChainFileError)
     if st.st_size > _MAX_SPEC_BYTES:
