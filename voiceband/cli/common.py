@@ -93,6 +93,18 @@ def stdout_failed(exc: OSError) -> "typer.Exit":
     return fail(f"cannot write to standard output: {os.strerror(exc.errno or errno.EIO).lower()}")
 
 
+def _names_as_bytes() -> None:
+    # A file name that is not UTF-8 reaches Python with its odd bytes as surrogates; print them
+    # back as the same bytes (as ls does) instead of failing on them.
+    for stream in (sys.stdout, sys.stderr):
+        reconfigure = getattr(stream, "reconfigure", None)
+        if reconfigure is not None and getattr(stream, "errors", "") == "strict":
+            try:
+                reconfigure(errors="surrogateescape")
+            except (ValueError, OSError, TypeError):
+                pass
+
+
 def guarded(fn: Callable[..., Any]) -> Callable[..., Any]:
     """Wrap a command so user errors become one stderr sentence and a non-zero exit.
 
@@ -102,6 +114,7 @@ def guarded(fn: Callable[..., Any]) -> Callable[..., Any]:
     @functools.wraps(fn)
     def wrapper(*args: Any, **kwargs: Any) -> Any:
         _catch_termination()
+        _names_as_bytes()
         try:
             return fn(*args, **kwargs)
         except typer.Exit:
