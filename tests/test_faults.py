@@ -218,13 +218,16 @@ def test_folder_without_search_permission_and_unreadable_file(sine):
 
 
 def test_stdout_closed_or_full(sine):
-    closed = _cli("analyze", sine, preexec_fn=lambda: os.close(1), capture_output=False, stderr=subprocess.PIPE)
-    assert closed.returncode == 2
-    assert closed.stderr.decode().strip() == "voiceband: standard output is closed; redirect it to a file or /dev/null instead."
+    cmd = [sys.executable, "-m", "voiceband.cli.main", "analyze", str(sine)]
+    closed = subprocess.Popen(cmd, preexec_fn=lambda: os.close(1), stderr=subprocess.PIPE)
     with open("/dev/full", "w") as full:
-        p = _cli("analyze", sine, "--json", "-", capture_output=False, stdout=full, stderr=subprocess.PIPE)
-    assert p.returncode == 2
-    assert p.stderr.decode().strip() == "voiceband: cannot write to standard output: no space left on device."
+        to_full = subprocess.Popen(cmd + ["--json", "-"], stdout=full, stderr=subprocess.PIPE)
+    err = closed.communicate(timeout=120)[1].decode().strip()
+    assert closed.returncode == 2
+    assert err == "voiceband: standard output is closed; redirect it to a file or /dev/null instead."
+    err = to_full.communicate(timeout=120)[1].decode().strip()
+    assert to_full.returncode == 2
+    assert err == "voiceband: cannot write to standard output: no space left on device."
 
 
 def test_outputs_checked_before_the_work(tmp_path, sine):
@@ -300,22 +303,28 @@ def test_streamed_test_signals_do_not_depend_on_the_block_length():
 
 
 def _long_testsignal(out: Path) -> list:
-    return ["testsignal", "tone", "--out", out, "--duration-s", 1800, "--rate-hz", 48000, "--bits", 32]
+    return ["testsignal", "tone", "--out", out, "--duration-s", 600, "--rate-hz", 48000, "--bits", 32]
 
 
 def test_sigterm_and_sighup_leave_nothing_behind(tmp_path):
-    for sig in (signal.SIGTERM, signal.SIGHUP):
-        out = tmp_path / f"t{sig}.wav"
-        p = subprocess.Popen([sys.executable, "-m", "voiceband.cli.main", *map(str, _long_testsignal(out))],
-                             stdout=subprocess.PIPE, stderr=subprocess.PIPE)
-        deadline = time.time() + 30
-        while not _ours(tmp_path) and time.time() < deadline:  # wait until it is writing
+    runs = {}
+    for sig in (signal.SIGTERM, signal.SIGHUP):  # both at once: start-up dominates the time
+        folder = tmp_path / signal.Signals(sig).name
+        folder.mkdir()
+        out = folder / "t.wav"
+        runs[sig] = (folder, out, subprocess.Popen([sys.executable, "-m", "voiceband.cli.main",
+                                                    *map(str, _long_testsignal(out))],
+                                                   stdout=subprocess.PIPE, stderr=subprocess.PIPE))
+    for sig, (folder, out, p) in runs.items():
+        deadline = time.time() + 60
+        while not _ours(folder) and time.time() < deadline:  # wait until it is writing
             time.sleep(0.05)
         p.send_signal(sig)
-        _, err = p.communicate(timeout=30)
+    for sig, (folder, out, p) in runs.items():
+        _, err = p.communicate(timeout=60)
         assert p.returncode == 128 + sig
         assert err.decode().strip() == f"voiceband: stopped by signal {signal.Signals(sig).name}; nothing was left half-written."
-        assert not out.exists() and _ours(tmp_path) == []
+        assert not out.exists() and _ours(folder) == []
 
 
 def test_sigkill_at_random_points_leaves_no_output_and_the_next_run_sweeps(tmp_path):
@@ -348,21 +357,23 @@ def _small_disk(tmp_path: Path) -> tuple[Path, object]:
 def test_full_disk_says_so_and_leaves_nothing(tmp_path):
     disk, undo = _small_disk(tmp_path)
     spec = tmp_path / "s.toml"
-    spec.write_text('description = "t"\noutput = "s.wav"\nsample_rate_hz = 16000\nduration_s = 4.0\nseed = 1\n'
-                    '[speech]\nvoice = "medium"\n')  # 4 s of 16-bit samples at 16 kHz: 128 kB
-    limit = None if undo else (lambda: resource.setrlimit(resource.RLIMIT_FSIZE, (50_000, 50_000)))
+    spec.write_text('description = "t"\noutput = "s.wav"\nsample_rate_hz = 16000\nduration_s = 1.0\nseed = 1\n'
+                    '[speech]\nvoice = "medium"\n')  # 1 s of 16-bit samples at 16 kHz: 32 kB
+    limit = None if undo else (lambda: resource.setrlimit(resource.RLIMIT_FSIZE, (20_000, 20_000)))
     try:
         if undo:
-            (disk / "filler").write_bytes(bytes(200_000))  # about 56 kB left
-        for args in (["testsignal", "tone", "--out", disk / "t.wav", "--duration-s", 10],
-                     ["synth", "--out", disk / "corpus", spec]):
-            p = _cli(*args, preexec_fn=limit)
-            err = p.stderr.decode().strip()
+            (disk / "filler").write_bytes(bytes(240_000))  # about 16 kB left
+        runs = [subprocess.Popen([sys.executable, "-m", "voiceband.cli.main", *map(str, args)], preexec_fn=limit,
+                                 stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+                for args in (["testsignal", "tone", "--out", disk / "t.wav", "--duration-s", 10],
+                             ["synth", "--out", disk / "corpus", spec])]
+        for p in runs:
+            err = p.communicate(timeout=120)[1].decode().strip()
             assert p.returncode == 2, err
             assert err.startswith("voiceband: cannot write '") and err.endswith("nothing was written."), err
             assert "space" in err or "too large" in err
-            left = [q for q in disk.rglob("*") if q.is_file() and q.name != "filler"]
-            assert left == []
+        left = [q for q in disk.rglob("*") if q.is_file() and q.name != "filler"]
+        assert left == []
     finally:
         if undo:
             undo()

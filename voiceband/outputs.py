@@ -150,17 +150,21 @@ def _probe(folder: Path, dest: Path) -> None:
     # Create and remove a temporary file of ours: the one test that holds for root, read-only
     # mounts, /proc and network file systems alike.
     t = folder / _tmp_name(dest)
+    _live.add(t)  # registered before it exists: a signal between creating and removing it still removes it
     try:
-        fd = os.open(t, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
-    except OSError as exc:
-        raise OutputPathError(
-            f"cannot write '{dest}': the folder '{folder}' does not accept new files "
-            f"({os.strerror(exc.errno or errno.EIO).lower()}).") from None
-    os.close(fd)
-    try:
-        os.unlink(t)
-    except OSError:
-        pass
+        try:
+            fd = os.open(t, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
+        except OSError as exc:
+            raise OutputPathError(
+                f"cannot write '{dest}': the folder '{folder}' does not accept new files "
+                f"({os.strerror(exc.errno or errno.EIO).lower()}).") from None
+        os.close(fd)
+        try:
+            os.unlink(t)
+        except OSError:
+            pass
+    finally:
+        _live.discard(t)
 
 
 def _tmp_name(dest: Path) -> str:
@@ -256,13 +260,21 @@ class _AtomicPath:
         tmp = parent / _tmp_name(self.path)
         umask = os.umask(0)
         os.umask(umask)
+        _live.add(tmp)  # registered before it exists, so a signal at any point still removes it
         try:
             fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666 & ~umask)
         except OSError as exc:
+            _live.discard(tmp)
             raise OutputPathError(f"cannot write in '{parent}': {os.strerror(exc.errno or errno.EIO)}.") from None
+        except BaseException:
+            _live.discard(tmp)
+            try:
+                tmp.unlink()
+            except OSError:
+                pass
+            raise
         os.close(fd)
         self.tmp = tmp
-        _live.add(tmp)
         return tmp
 
     def __exit__(self, exc_type, exc, tb) -> bool:
