@@ -127,7 +127,10 @@ def _native(path: Union[str, os.PathLike]) -> bytes:
 
 def _short(exc: Exception) -> str:
     text = str(exc).strip().splitlines()[-1] if str(exc).strip() else type(exc).__name__
-    text = text.replace("Error opening", "error opening")
+    if text.startswith("Error opening") and ": " in text:
+        text = text.rsplit(": ", 1)[1]  # libsndfile's reason, without its repr of our name
+    if "not a regular file" in text:  # said of MP3-like bytes it cannot decode; the file was checked to be regular
+        text = "no audio found in it"
     return text[:160].rstrip(".")
 
 
