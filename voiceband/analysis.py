@@ -9,7 +9,8 @@ from __future__ import annotations
 
 import math
 import os
-from typing import Callable, Optional, Union
+from dataclasses import dataclass
+from typing import Any, Callable, Optional, Union
 
 import numpy as np
 
@@ -30,7 +31,8 @@ from .results import (
     VoiceSection,
 )
 
-__all__ = ["analyze_file", "analyze_signal", "MIN_DURATION_S", "MAX_LISTED_CLIP_EVENTS"]
+__all__ = ["analyze_file", "analyze_file_detailed", "AnalysisDetails", "analyze_signal", "MIN_DURATION_S",
+           "MAX_LISTED_CLIP_EVENTS"]
 
 #: Shortest recording analysed (s): one long-term-spectrum frame needs about 0.1 s.
 MIN_DURATION_S = 0.25
@@ -50,7 +52,7 @@ def _finite(v: Optional[float]) -> Optional[float]:
 class _Pipeline:
     """The accumulators one analysis feeds, block by block."""
 
-    def __init__(self, sample_rate_hz: int):
+    def __init__(self, sample_rate_hz: int, *, timeline: bool = False):
         from .measurement.clipping import ClippingAccumulator
         from .measurement.levels import LevelsAccumulator
         from .measurement.spectrum import SpectralAccumulator
@@ -59,13 +61,36 @@ class _Pipeline:
         self.levels = LevelsAccumulator(sample_rate_hz)
         self.clipping = ClippingAccumulator(sample_rate_hz)
         self.spectral = SpectralAccumulator(sample_rate_hz)
+        self.timeline = None
+        if timeline:  # only for figures (voiceband report): level over time, spectrogram, histogram
+            from .measurement.timeline import TimelineAccumulator
+
+            self.timeline = TimelineAccumulator(sample_rate_hz)
         self.samples = 0
 
     def update(self, block: np.ndarray) -> None:
         self.levels.update(block)  # raises SignalValueError on NaN/Inf before anything else sees the block
         self.clipping.update(block)
         self.spectral.update(block)
+        if self.timeline is not None:
+            self.timeline.update(block)
         self.samples += block.size
+
+
+@dataclass(frozen=True)
+class AnalysisDetails:
+    """What the report's figures need beyond :class:`AnalysisResult`, from the same single pass.
+
+    Attributes
+    ----------
+    spectral : voiceband.measurement.spectrum.SpectralAnalysis
+        Fine speech and pause PSDs, activity thresholds and hum lines.
+    timeline : voiceband.measurement.timeline.TimelineResult
+        Level over time, coarse spectrogram and sample-value histogram.
+    """
+
+    spectral: Any
+    timeline: Any
 
 
 def analyze_file(
@@ -91,13 +116,29 @@ def analyze_file(
     SignalValueError
         The samples contain NaN/Inf, or the recording is shorter than :data:`MIN_DURATION_S`.
     """
+    return _analyze_path(path, channel, progress, block_frames, timeline=False)[0]
+
+
+def analyze_file_detailed(
+    path: Union[str, os.PathLike],
+    *,
+    channel: audio.Channel = 0,
+    progress: Optional[ProgressFn] = None,
+    block_frames: int = audio.DEFAULT_BLOCK_FRAMES,
+) -> tuple[AnalysisResult, AnalysisDetails]:
+    """:func:`analyze_file` plus the statistics the report's figures draw, in the same single pass."""
+    result, pipe, sp = _analyze_path(path, channel, progress, block_frames, timeline=True)
+    return result, AnalysisDetails(spectral=sp, timeline=pipe.timeline.result())
+
+
+def _analyze_path(path, channel, progress, block_frames, *, timeline: bool):
     ai = audio.info(path)
     if ai.frames < int(MIN_DURATION_S * ai.sample_rate_hz):
         raise SignalValueError(
             f"'{ai.path}' is too short to analyse ({ai.frames} samples, {ai.duration_s:.3f} s); "
             f"voiceband needs at least {MIN_DURATION_S} s."
         )
-    pipe = _Pipeline(ai.sample_rate_hz)
+    pipe = _Pipeline(ai.sample_rate_hz, timeline=timeline)
     for block in audio.blocks(ai.path, channel=channel, block_frames=block_frames, audio_info=ai):
         pipe.update(block)
         if progress is not None:
@@ -114,7 +155,8 @@ def analyze_file(
         format=ai.format,
         subtype=ai.subtype,
     )
-    return _combine(info, pipe)
+    result = _combine(info, pipe)
+    return result, pipe, pipe.spectral_result
 
 
 def analyze_signal(samples: np.ndarray, sample_rate_hz: int, *, name: str = "<signal>") -> AnalysisResult:
@@ -144,6 +186,7 @@ def _combine(info: InputInfo, pipe: _Pipeline) -> AnalysisResult:
     silent = not math.isfinite(lv.peak_dbfs)
     active = _finite(lv.active_level_dbfs)
     sp = pipe.spectral.result(active_level_dbfs=active)
+    pipe.spectral_result = sp  # kept for analyze_file_detailed
 
     levels = LevelsSection(
         peak_dbfs=_finite(lv.peak_dbfs),
