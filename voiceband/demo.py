@@ -7,8 +7,8 @@ rendered with :func:`voiceband.synth.corpus.render`:
 * **Board A, "as bought"**: a gentle 2-pole 80–5000 Hz band-pass and a ground loop adding 50 Hz hum --
   far too wide for SSB;
 * **Board B, "SSB board"**: a 4-pole 300–2700 Hz band-pass -- the fix;
-* **Board C, "SSB board, hot microphone"**: board B behind a microphone preamp turned up 14 dB that
-  clips at −6 dBFS.
+* **Board C, "SSB board, hot microphone"**: board B with the microphone gain turned up 14 dB, so its
+  output stage clips at −6 dBFS (recorded at the rig's monitor output, where the flat tops survive).
 
 Each board's audio crosses a quiet receiver (band-limited hiss 30 dB below the speech) as a friend
 would record it.  The demo writes the recordings, one report per board -- board B's with board A as
@@ -51,7 +51,7 @@ BOARDS = (
     Board("board-a", "Board A — as bought", "2-pole 80–5000 Hz band-pass; a ground loop adds 50 Hz hum.",
           80.0, 5000.0, 2, hum_db_re_speech=-34.0),
     Board("board-b", "Board B — SSB board", "4-pole 300–2700 Hz band-pass, ground loop fixed.", 300.0, 2700.0, 4),
-    Board("board-c", "Board C — SSB board, hot microphone", "Board B behind a preamp turned up 14 dB that clips at −6 dBFS.",
+    Board("board-c", "Board C — SSB board, hot microphone", "Board B with its microphone gain turned up 14 dB: the output stage clips at −6 dBFS (recorded at the rig's monitor output).",
           300.0, 2700.0, 4, mic_gain_db=14.0, preamp_clip_dbfs=-6.0),
 )
 
@@ -67,7 +67,7 @@ def talker() -> np.ndarray:
 
 
 def apply_board(x: np.ndarray, board: Board, *, seed: int = 0) -> np.ndarray:
-    """The board's audio as a friend records it off the air: preamp, filter, hum, receiver hiss."""
+    """The board's audio as recorded: microphone gain, filter, hum, receiver hiss, output-stage clipping."""
     from scipy import signal
 
     from .measurement.levels import measure_levels
@@ -75,16 +75,15 @@ def apply_board(x: np.ndarray, board: Board, *, seed: int = 0) -> np.ndarray:
 
     fs = SAMPLE_RATE_HZ
     active = measure_levels(x, fs).active_level_dbfs
-    y = x * 10.0 ** (board.mic_gain_db / 20.0)
-    if board.preamp_clip_dbfs is not None:
-        c = 10.0 ** (board.preamp_clip_dbfs / 20.0)
-        y = np.clip(y, -c, c)
     sos = signal.butter(board.order, [board.low_hz, board.high_hz], btype="bandpass", fs=fs, output="sos")
-    y = signal.sosfilt(sos, y)
+    y = signal.sosfilt(sos, x * 10.0 ** (board.mic_gain_db / 20.0))
     speech = active + board.mic_gain_db
     if board.hum_db_re_speech is not None:
         y = y + mains_hum(DURATION_S, fs, mains_hz=50.0, level_dbfs=speech + board.hum_db_re_speech, seed=seed + 1)[: y.size]
     y = y + receiver_hiss(DURATION_S, fs, low_hz=250.0, high_hz=3200.0, level_dbfs=active - 30.0, seed=seed + 2)[: y.size]
+    if board.preamp_clip_dbfs is not None:  # the overdriven output stage, heard on the monitor output
+        c = 10.0 ** (board.preamp_clip_dbfs / 20.0)
+        y = np.clip(y, -c, c)
     peak = float(np.max(np.abs(y)))
     return y / peak * 0.89 if peak > 0.89 else y  # the receiver's recording level keeps 1 dB of headroom
 
