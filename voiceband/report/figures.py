@@ -46,16 +46,23 @@ class Take:
     role: str = "now"  # "now" or "before"
 
 
+#: The project's style with major grid lines only (minor log-axis grids cost more to draw than the data).
+REPORT_STYLE = {**STYLE, "axes.grid.which": "major"}
+
+
 def _style():
     import matplotlib.style
 
-    return matplotlib.style.context(STYLE)
+    return matplotlib.style.context(REPORT_STYLE)
 
 
 def _fig(w: float, h: float, rows: int = 1):
     from matplotlib.figure import Figure
 
-    fig = Figure(figsize=(w, h), layout="constrained", dpi=_DPI)
+    # fixed margins (in inches, so they hold for any height): a layout engine would redraw every figure
+    fig = Figure(figsize=(w, h), dpi=_DPI)
+    fig.subplots_adjust(left=0.75 / w, right=1.0 - 0.15 / w, bottom=0.5 / h, top=1.0 - 0.32 / h,
+                        hspace=0.62 / (h / max(rows, 1)))
     axes = fig.subplots(rows, 1, squeeze=False)[:, 0]
     return fig, axes
 
@@ -143,9 +150,8 @@ def spectrogram_figure(takes: Sequence[Take]) -> Any:
                            extent=(0.0, dur, 0.0, fmax / 1000.0), interpolation="nearest")
             ax.grid(False)
             ax.set_ylabel("kHz")
-            ax.set_title(f"{t.label}: sound over time (brighter = more power)", loc="left")
+            ax.set_title(f"{t.label}: sound over time (brighter = more power; scale in dB re FS²/Hz)", loc="left")
             cb = fig.colorbar(im, ax=ax, pad=0.01, fraction=0.04)
-            cb.set_label("dB re FS²/Hz", fontsize=7)
             cb.ax.tick_params(labelsize=7)
         axes[-1].set_xlabel("Time (s)")
     return fig
@@ -210,10 +216,15 @@ def histogram_figure(takes: Sequence[Take]) -> Any:
                     ax.axvline(s, color=COLOURS["clip"], linestyle=":", linewidth=0.9)
                 ax.text(cl, 0.5, f" clip level {100 * cl:.0f} % FS", color=COLOURS["clip"], fontsize=7.5,
                         transform=ax.get_xaxis_transform(), rotation=90, va="center")
+        from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+
         ax.set_yscale("log")
+        ax.yaxis.set_major_locator(LogLocator(base=10.0, numticks=6))
+        ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _pos: f"{100 * v:g} %"))  # plain text, no mathtext
+        ax.yaxis.set_minor_formatter(NullFormatter())
         ax.set_xlim(-1.02, 1.02)
         ax.set_xlabel("Sample value (full scale = ±1)")
-        ax.set_ylabel("Share of samples")
+        ax.set_ylabel("Share of samples (log)")
         ax.set_title("How the samples spread: amplitude histogram", loc="left")
         ax.legend(loc="upper right")
     return fig
