@@ -109,7 +109,7 @@ def run_demo(out: Union[str, os.PathLike] = "reports/demo", *, force: bool = Fal
 
     out = Path(out)
     for f in demo_outputs(out):
-        check_writable(f, force=force)
+        check_writable(f, force=force, make_folders=True)
     profile = load_profile(PROFILE)
     progress("voiceband demo: synthesising the talker (corpus spec speech_medium_normal) ...")
     x = talker()

@@ -33,7 +33,8 @@ def report(
 
     folder = out if out is not None else Path(f"{file.stem}-report")
     prof = load_profile(profile)  # a bad profile is refused before the work
-    check_outputs(folder, pdf=pdf, before=before is not None, force=force)
+    check_outputs(folder, pdf=pdf, before=before is not None, force=force,
+                  inputs=[file] + ([before] if before is not None else []))
     rep = build_report(file, profile=prof, before=before, channel=channel, title=title, notes=notes)
     index = write_report(rep, folder, force=force, pdf=pdf)
     typer.echo(f"Report written: {index}  (open it in a web browser)")

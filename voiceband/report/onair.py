@@ -153,8 +153,8 @@ def output_names(*, pdf: bool = False, before: bool = False) -> list[str]:
     return names
 
 
-def check_outputs(out: Path, *, pdf: bool, before: bool, force: bool) -> None:
-    """Refuse now, before the work, if any file the report would write exists and ``force`` is false."""
+def check_outputs(out: Path, *, pdf: bool, before: bool, force: bool, inputs=()) -> None:
+    """Refuse now, before the work, any file the report could not write (exists without ``force``, is an input, ...)."""
     from ..outputs import check_writable
 
     if out.exists() and not out.is_dir():
@@ -162,7 +162,7 @@ def check_outputs(out: Path, *, pdf: bool, before: bool, force: bool) -> None:
 
         raise OutputExistsError(f"'{out}' exists and is not a folder; give a folder for the report.")
     for name in output_names(pdf=pdf, before=before):
-        check_writable(out / name, force=force)
+        check_writable(out / name, force=force, inputs=inputs, make_folders=True)
 
 
 def write_report(report: Report, out: Union[str, os.PathLike], *, force: bool = False, pdf: bool = False) -> Path:
