@@ -116,7 +116,7 @@ def run_demo(out: Union[str, os.PathLike] = "reports/demo", *, force: bool = Fal
     paths = {}
     for i, b in enumerate(BOARDS):
         p = out / "recordings" / f"{b.key}.wav"
-        audio.write(p, apply_board(x, b, seed=10 * i), SAMPLE_RATE_HZ, force=force)
+        audio.write(p, apply_board(x, b, seed=10 * i), SAMPLE_RATE_HZ, force=force, make_folders=True)
         paths[b.key] = p
     entries = []
     for b in BOARDS:
@@ -133,6 +133,6 @@ def run_demo(out: Union[str, os.PathLike] = "reports/demo", *, force: bool = Fal
         "A portable station tried three microphone filter boards on the same talker; a friend recorded each one "
         "off the air. Each name opens that board's full report; Board B's report shows Board A as “before”.",
         profile, entries)
-    with atomic_output(out / "index.html", force=force) as tmp:
+    with atomic_output(out / "index.html", force=force, make_folders=True) as tmp:
         tmp.write_text(page, encoding="utf-8")
     return out / "index.html"

@@ -184,7 +184,7 @@ def write_report(report: Report, out: Union[str, os.PathLike], *, force: bool = 
     images = [(stem, caption, "data:image/png;base64," + base64.b64encode(png).decode("ascii")) for stem, caption, png in pngs]
 
     def put(name: str, data: Union[str, bytes]) -> None:
-        with atomic_output(out / name, force=force) as tmp:
+        with atomic_output(out / name, force=force, make_folders=True) as tmp:
             if isinstance(data, bytes):
                 tmp.write_bytes(data)
             else:
@@ -199,7 +199,7 @@ def write_report(report: Report, out: Union[str, os.PathLike], *, force: bool = 
     if pdf:
         from .pdf import render_pdf
 
-        with atomic_output(out / "report.pdf", force=force) as tmp:
+        with atomic_output(out / "report.pdf", force=force, make_folders=True) as tmp:
             render_pdf(report, [fig for _, _, fig in figs], tmp)
     put("index.html", render_html(report, images))
     return out / "index.html"
