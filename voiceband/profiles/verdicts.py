@@ -53,7 +53,7 @@ class Check:
     label: str
     unit: str
     digits: int
-    value: Callable[[AnalysisResult], tuple[Optional[float], str]]  # (value, qualifier or why not measurable)
+    value: Callable[[AnalysisResult], tuple[Optional[float], str]]  # (value, suffix such as " or higher"; or None, why not)
     ok: str  # sentence templates: {v} value with unit, {lim} the pass range
     low: str
     high: str
@@ -68,7 +68,7 @@ def _edge(r: AnalysisResult, which: str) -> tuple[Optional[float], str]:
     other = e.high if which == "low" else e.low
     if bound is not None and (other is not None or (e.lowest_band_hz and e.highest_band_hz)):
         # the estimated response stays up to the last analysed band: the edge lies beyond it
-        return float(bound), ("at or below " if which == "low" else "at or above ")
+        return float(bound), (" or lower" if which == "low" else " or higher")
     return None, "the passband edge could not be estimated from this recording's spectrum"
 
 
@@ -246,7 +246,7 @@ def verdicts(result: AnalysisResult, profile: Profile) -> tuple[Verdict, ...]:
         if v is None:
             continue
         status = judge(v, lim)
-        vtext = qual + _fmt(v, c)
+        vtext = _fmt(v, c) + qual
         if v == -math.inf:
             reason = "No mains hum was found in the pauses."
         elif lim.check == "clip_events" and v == 0:
