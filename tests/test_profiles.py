@@ -135,3 +135,23 @@ def test_power_and_importance_fractions(talker):
     # with everything audible the delivered share below 1122 Hz (upper limit of the 1 kHz band) is near it
     i = importance_fraction_below(r, 1122.0)
     assert 0.30 < i < 0.45
+
+
+def _tilted(talker, slope_db_per_octave):
+    """The talker through a 300-3000 Hz band-pass and an ideal slope re 1 kHz (FFT-domain, test signal)."""
+    x, fs = talker
+    sos = signal.butter(4, [300.0, 3000.0], btype="bandpass", fs=fs, output="sos")
+    y = signal.sosfilt(sos, x)
+    spec = np.fft.rfft(y)
+    f = np.maximum(np.fft.rfftfreq(y.size, 1 / fs), 1.0)
+    y = np.fft.irfft(spec * (f / 1000.0) ** (slope_db_per_octave / 6.0206), y.size)
+    return analyze_signal(0.5 * y / np.max(np.abs(y)), fs)
+
+
+def test_preemphasis_check_reads_the_chain_slope(talker):
+    # TIA-603 transmit audio: 6 dB/octave pre-emphasis over 300-3000 Hz (from memory); flat audio reads about 0
+    prof = load_profile("fm-voice-wide")
+    emph = {v.check: v for v in verdicts(_tilted(talker, 6.0), prof)}["preemphasis_db_per_octave"]
+    flat = {v.check: v for v in verdicts(_tilted(talker, 0.0), prof)}["preemphasis_db_per_octave"]
+    assert emph.value == pytest.approx(6.0, abs=1.5) and emph.status == "pass"
+    assert flat.value == pytest.approx(0.0, abs=1.5) and flat.status == "fail"

@@ -108,9 +108,11 @@ def response_slope_db_per_octave(r: AnalysisResult) -> Optional[float]:
     """Slope of the chain's response over the voice band, estimated from speech (dB/octave).
 
     The measured speech tilt (one-third-octave band levels vs log2 f over 300–3000 Hz, clipped to
-    the passband) minus the tilt of the ANSI S3.5-1997 Table 3 speech spectrum at the talker's
-    fitted vocal effort over the same span (:func:`voiceband.reference_spectra.effort_band_levels_db`).
-    Flat audio reads about 0, 6 dB/octave pre-emphasis about +6 (TIA-603 practice, from memory).
+    the passband) minus the tilt of the ANSI S3.5-1997 Table 3 normal-effort speech spectrum over the
+    same span (:func:`voiceband.reference_spectra.effort_band_levels_db`).  Flat audio of a normal
+    talker reads about 0, 6 dB/octave pre-emphasis about +6 (TIA-603 practice, from memory); shouted
+    speech is flatter and reads up to about 3 dB/octave higher (Table 3: -5.5 instead of -8.6 dB/octave
+    over 500-4000 Hz), which the profiles' ranges allow for.
     """
     sp = r.spectrum
     if sp.tilt_db_per_octave is None:
@@ -123,9 +125,9 @@ def response_slope_db_per_octave(r: AnalysisResult) -> Optional[float]:
         lo = max(lo, sp.edges_hz.low)
     if sp.edges_hz.high is not None:
         hi = min(hi, sp.edges_hz.high)
-    effort = sp.vocal_effort_index if sp.vocal_effort_index is not None else 0.0
-    bands, ref = effort_band_levels_db(min(3.0, max(0.0, float(effort))))
-    ref_tilt = tilt_db_per_octave(bands, ref, span_hz=(lo, hi)) if lo < hi else None
+    # normal effort, not the fitted one: the effort fit reads a rising response as louder (flatter) speech
+    ref = effort_band_levels_db("normal")  # BandLevels (kind "band")
+    ref_tilt = tilt_db_per_octave(ref, span_hz=(lo, hi)) if lo < hi else None
     if ref_tilt is None:
         return None
     return float(sp.tilt_db_per_octave - ref_tilt)
