@@ -40,7 +40,7 @@ def test_scenario_verdicts(demo_dir):
     # board A: 80-5000 Hz is far wider than the 2.8 kHz SSB channel (47 CFR 97.303(h))
     assert status(a, "occupied_bandwidth_hz") == "fail"
     assert status(a, "hum_db_re_speech") != "pass"
-    # board B: 300-2700 Hz, the usual SSB band (trade notes section 2)
+    # board B: 300-2700 Hz, the usual SSB band (common practice)
     assert all(v["status"] == "pass" for v in b["verdicts"])
     # board C clips: the first thing to change is the gain
     assert status(c, "clip_events") == "fail" and c["recommendations"][0]["code"] == "gain"

@@ -44,7 +44,7 @@ def test_builtin_profiles_load_with_a_source_beside_every_limit():
 
 
 def test_profile_passbands_match_the_trade_bands():
-    # trade notes section 2: SSB 300-2700 Hz (common amateur practice), telephone 300-3400 Hz
+    # SSB 300-2700 Hz (common practice), telephone 300-3400 Hz
     # (IEC 60050 IEV 704-10-07), wideband 50-7000 Hz (G.722, from memory); TIA-603 300-3000 Hz (from memory)
     bands = {n: (load_profile(n).passband_low_hz, load_profile(n).passband_high_hz) for n in profile_names()}
     assert bands["ssb-voice"] == (300.0, 2700.0)
@@ -86,7 +86,7 @@ def test_judge_bounds_are_inclusive():
 
 
 def test_300_2700_chain_passes_ssb_voice(talker):
-    # 300-2700 Hz is the usual amateur SSB audio band (trade notes section 2)
+    # 300-2700 Hz is the usual amateur SSB audio band (common practice)
     r = _chain(talker, 300.0, 2700.0)
     vs = verdicts(r, load_profile("ssb-voice"))
     assert {v.check for v in vs} >= {"lower_edge_hz", "upper_edge_hz", "occupied_bandwidth_hz", "clip_events", "sii"}
@@ -131,7 +131,7 @@ def test_power_and_importance_fractions(talker):
     # fractions grow with frequency and stay in [0, 1]
     p = [power_fraction_below(r, f) for f in (100.0, 300.0, 1000.0, 30000.0)]
     assert p == sorted(p) and 0.0 <= p[0] and p[-1] == pytest.approx(1.0, abs=1e-9)
-    # ANSI S3.5-1997 Table 3: bands up to 1 kHz carry about 38 % of the importance (trade notes 2, [K]);
+    # ANSI S3.5-1997 Table 3: bands up to 1 kHz carry about 38 % of the importance (computed from the table);
     # with everything audible the delivered share below 1122 Hz (upper limit of the 1 kHz band) is near it
     i = importance_fraction_below(r, 1122.0)
     assert 0.30 < i < 0.45

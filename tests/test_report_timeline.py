@@ -52,7 +52,7 @@ def test_histogram_counts_every_sample_and_shows_the_clip_level():
     fs = 8000
     n = 80000
     # a full-scale sine clipped at c spends 1 - (2/pi) asin(c) of the time at the clip level:
-    # c = 0.5 -> 66.7 % (trade notes section 4, [K])
+    # c = 0.5 -> 66.7 % (analytic)
     x = np.clip(np.sin(2 * np.pi * 50.0 * np.arange(n) / fs + 0.1), -0.5, 0.5)
     t = measure_timeline(x, fs)
     assert t.histogram_counts.sum() == n == t.samples
