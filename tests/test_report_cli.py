@@ -44,6 +44,12 @@ def test_json_equals_analyze_plus_added_keys(report_dir):
     verdicts = got.pop("verdicts")
     recs = got.pop("recommendations")
     assert got == plain
+    # the report's JSON is still a valid analysis document (the schema allows the added keys)
+    import jsonschema
+    from importlib import resources
+
+    schema = json.loads(resources.files("voiceband").joinpath("schemas/analysis.schema.json").read_text())
+    jsonschema.validate(json.loads((report_dir / "analysis.json").read_text()), schema)
     assert verdicts and all(set(v) == {"check", "value", "limit", "status", "reason"} for v in verdicts)
     assert all(v["status"] in ("pass", "marginal", "fail") for v in verdicts)
     assert recs and recs[0]["code"] == "gain"

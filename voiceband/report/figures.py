@@ -193,7 +193,8 @@ def level_figure(takes: Sequence[Take]) -> Any:
             ax.set_xlim(0.0, max(float(x[-1]) if x.size else 1.0, 1e-3))
             ax.set_ylabel("dBFS")
             ax.set_title(f"{t.label}: level over time", loc="left")
-            ax.legend(loc="lower right", ncol=5)
+            ax.legend(loc="lower right", bbox_to_anchor=(1.0, 1.0), ncol=5, fontsize=7, borderaxespad=0.1,
+                      handlelength=1.5, columnspacing=1.0)
         axes[-1].set_xlabel("Time (s)")
     return fig
 

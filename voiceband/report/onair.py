@@ -90,10 +90,17 @@ def build_report(path: Union[str, os.PathLike], *, profile: Union[str, os.PathLi
         now=now,
         before=prev,
         changes=changes(prev.result, now.result, prev.sii_at_6db, now.sii_at_6db) if prev is not None else (),
-        settings={"profile": prof.name, "profile file": prof.path, "channel": str(channel),
+        settings={"profile": prof.name, "profile file": _profile_file(prof), "channel": str(channel),
                   "before": str(before) if before is not None else "none",
                   "cutoff search channel SNR": "6 dB", "voiceband": now.result.voiceband_version},
     )
+
+
+def _profile_file(prof: Profile) -> str:
+    from ..profiles import BUILTIN_DIR
+
+    p = Path(prof.path)
+    return f"built-in ({p.name})" if p.parent.resolve() == BUILTIN_DIR.resolve() else prof.path
 
 
 def changes(a: AnalysisResult, b: AnalysisResult, sii6_a: Optional[float], sii6_b: Optional[float]) -> tuple[str, ...]:
