@@ -27,6 +27,7 @@ def test_comparison_page_links_to_every_report(demo_dir):
     links = re.findall(r'href="([^"]+\.html)"', page)
     assert sorted(links) == ["board-a/index.html", "board-b/index.html", "board-c/index.html"]
     assert all((demo_dir / link).is_file() for link in links)
+    assert page.count('src="data:image/png;base64,') == 1  # the side-by-side figure, embedded
     assert all((demo_dir / "recordings" / f"board-{k}.wav").is_file() for k in "abc")
 
 

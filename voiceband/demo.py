@@ -18,6 +18,7 @@ Butterworth designs applied with :mod:`scipy.signal` in :func:`apply_board`.
 
 from __future__ import annotations
 
+import base64
 import os
 from dataclasses import dataclass
 from pathlib import Path
@@ -105,6 +106,8 @@ def run_demo(out: Union[str, os.PathLike] = "reports/demo", *, force: bool = Fal
     from .outputs import atomic_output, check_writable
     from .profiles import load_profile
     from .report.html import render_comparison
+    from .report.figures import Take as FigureTake
+    from .report.figures import comparison_figure, figure_png
     from .report.onair import build_report, write_report
 
     out = Path(out)
@@ -118,7 +121,7 @@ def run_demo(out: Union[str, os.PathLike] = "reports/demo", *, force: bool = Fal
         p = out / "recordings" / f"{b.key}.wav"
         audio.write(p, apply_board(x, b, seed=10 * i), SAMPLE_RATE_HZ, force=force, make_folders=True)
         paths[b.key] = p
-    entries = []
+    entries, takes = [], []
     for b in BOARDS:
         progress(f"voiceband demo: analysing and reporting {b.name} ...")
         before = paths["board-a"] if b.key == "board-b" else None
@@ -128,11 +131,15 @@ def run_demo(out: Union[str, os.PathLike] = "reports/demo", *, force: bool = Fal
                            now_label=b.name.split(" — ")[0], before_label="Board A")
         write_report(rep, out / b.key, force=force)
         entries.append({"name": b.name, "description": b.description, "href": f"{b.key}/index.html", "take": rep.now})
+        takes.append(FigureTake(b.name.split(" — ")[0], rep.now.result, rep.now.details))
+    png = figure_png(comparison_figure(takes, profile))
+    image = ("The three boards' long-term speech spectra and their SII against channel SNR",
+             "data:image/png;base64," + base64.b64encode(png).decode("ascii"))
     page = render_comparison(
         "Portable station: three filter boards on SSB",
         "A portable station tried three microphone filter boards on the same talker; a friend recorded each one "
         "off the air. Each name opens that board's full report; Board B's report shows Board A as “before”.",
-        profile, entries)
+        profile, entries, image)
     with atomic_output(out / "index.html", force=force, make_folders=True) as tmp:
         tmp.write_text(page, encoding="utf-8")
     return out / "index.html"

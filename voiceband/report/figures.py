@@ -22,7 +22,7 @@ import numpy as np
 
 from .plots import STYLE, _hz_label
 
-__all__ = ["Take", "FIGURES", "render_figures", "figure_png", "COLOURS"]
+__all__ = ["Take", "FIGURES", "render_figures", "figure_png", "comparison_figure", "COLOURS", "SERIES"]
 
 #: Trace colours: the recording judged, the earlier one, noise, the passband fill, marks.
 COLOURS = {
@@ -62,7 +62,7 @@ def _fig(w: float, h: float, rows: int = 1):
     # fixed margins (in inches, so they hold for any height): a layout engine would redraw every figure
     fig = Figure(figsize=(w, h), dpi=_DPI)
     fig.subplots_adjust(left=0.75 / w, right=1.0 - 0.15 / w, bottom=0.5 / h, top=1.0 - 0.32 / h,
-                        hspace=0.62 / (h / max(rows, 1)))
+                        hspace=0.95 / (h / max(rows, 1)))
     axes = fig.subplots(rows, 1, squeeze=False)[:, 0]
     return fig, axes
 
@@ -322,6 +322,45 @@ FIGURES = (
     ("sii-snr", "SII against channel SNR", lambda takes, profile: sii_snr_figure(takes)),
     ("hum", "Mains hum close-up", lambda takes, profile: hum_figure(takes)),
 )
+
+
+#: Colours and line styles for several recordings side by side (distinct in hue, lightness and dash).
+SERIES = (("#0b6e75", "-"), ("#b7791f", "--"), ("#5a3d7a", "-."), ("#4d5358", ":"))
+
+
+def comparison_figure(takes: Sequence[Take], profile: Any) -> Any:
+    """Several recordings side by side: long-term speech spectra over the profile's band, and SII against channel SNR."""
+    with _style():
+        fig, (ax_s, ax_i) = _fig(7.2, 5.6, rows=2)
+        fs2 = min(t.result.input.sample_rate_hz for t in takes) / 2.0
+        lo, hi = 50.0, min(fs2, 12000.0)
+        ax_s.axvspan(profile.passband_low_hz, profile.passband_high_hz, color=COLOURS["band"], zorder=0,
+                     label=f"{profile.name} band")
+        top = -200.0
+        for k, t in enumerate(takes):
+            colour, ls = SERIES[k % len(SERIES)]
+            s = t.details.spectral.spectrum
+            if s is not None and s.speech_psd_fs2_per_hz is not None:
+                f = np.asarray(s.freqs_hz)
+                keep = (f >= lo) & (f <= hi)
+                y = _db(s.speech_psd_fs2_per_hz)[keep]
+                top = max(top, float(np.max(y)))
+                ax_s.plot(f[keep], y, color=colour, linestyle=ls, label=t.label)
+            it = t.result.intelligibility
+            if it is not None:
+                ax_i.plot([p.snr_db for p in it.sii_vs_channel_snr], [p.sii for p in it.sii_vs_channel_snr],
+                          color=colour, linestyle=ls, marker="os^D"[k % 4], markersize=3.5, label=t.label)
+        ax_s.set_ylim(top - 70.0, top + 5.0)
+        _logx(ax_s, lo, hi)
+        ax_s.set_ylabel("dB re FS² per Hz")
+        ax_s.set_title("Long-term speech spectrum of each recording", loc="left")
+        ax_s.legend(loc="lower left", fontsize=7)
+        ax_i.set_ylim(0.0, 1.0)
+        ax_i.set_xlabel("Channel SNR (dB, white noise over 141–8913 Hz)")
+        ax_i.set_ylabel("SII")
+        ax_i.set_title("Intelligibility against channel noise", loc="left")
+        ax_i.legend(loc="lower right", fontsize=7)
+    return fig
 
 
 def figure_png(fig: Any) -> bytes:

@@ -176,7 +176,7 @@ def write_report(report: Report, out: Union[str, os.PathLike], *, force: bool = 
     """Write the report's files into ``out`` (created if needed); returns the path of ``index.html``."""
     from ..outputs import atomic_output
     from .figures import Take as FigureTake
-    from .figures import figure_png, render_figures
+    from .figures import FIGURES, figure_png, render_figures
     from .html import render_html
     from .markdown import render_markdown
     from .serialize import dumps_json
@@ -199,6 +199,11 @@ def write_report(report: Report, out: Union[str, os.PathLike], *, force: bool = 
 
     for stem, _, png in pngs:
         put(f"{stem}.png", png)
+    written = {stem for stem, _, _ in pngs}
+    for stem, _, _ in FIGURES:  # a figure that no longer applies (e.g. hum gone) must not linger from a forced rerun
+        old = out / f"{stem}.png"
+        if stem not in written and force and old.is_file():
+            old.unlink()
     put("analysis.json", dumps_json(report_json(report.now)) + "\n")
     if report.before is not None:
         put("before-analysis.json", dumps_json(report_json(report.before)) + "\n")
