@@ -94,7 +94,7 @@ def spectrum_figure(takes: Sequence[Take], profile: Any) -> Any:
                    label=f"{profile.name} band {profile.passband_low_hz:.0f}–{profile.passband_high_hz:.0f} Hz")
         top = -200.0
         for t in takes:
-            s = t.details.spectral.spectrum
+            s = t.details.measurements.spectrum
             if s is None or s.speech_psd_fs2_per_hz is None:
                 continue
             f = np.asarray(s.freqs_hz)
@@ -163,7 +163,7 @@ def level_figure(takes: Sequence[Take]) -> Any:
         fig, axes = _fig(7.2, 2.4 * len(takes) + 0.4, rows=len(takes))
         for ax, t in zip(axes, takes):
             tl = t.details.timeline
-            act = t.details.spectral.activity
+            act = t.details.measurements.activity
             rms = np.asarray(tl.level_rms_dbfs)
             peak = np.asarray(tl.level_peak_dbfs)
             x = (np.arange(rms.size) + 0.5) * tl.level_column_s
@@ -283,26 +283,26 @@ def sii_snr_figure(takes: Sequence[Take]) -> Any:
 
 def hum_figure(takes: Sequence[Take]) -> Optional[Any]:
     """Close-up of 0–600 Hz in the pauses with the detected mains lines; ``None`` when no take has hum."""
-    hum_takes = [t for t in takes if t.details.spectral.hum is not None]
+    hum_takes = [t for t in takes if t.details.measurements.hum is not None]
     if not hum_takes:
         return None
     with _style():
         fig, (ax,) = _fig(7.2, 2.8)
         for t in takes:
-            s = t.details.spectral.spectrum
+            s = t.details.measurements.spectrum
             c = COLOURS[t.role]
             if s is not None and s.noise_psd_fs2_per_hz is not None:
                 f = np.asarray(s.freqs_hz)
                 keep = f <= 600.0
                 per_bin = _db(np.asarray(s.noise_psd_fs2_per_hz)[keep] * s.frequency_resolution_hz)
                 ax.plot(f[keep], per_bin, color=c, linewidth=0.9, label=f"{t.label}: pauses (power per bin)")
-            h = t.details.spectral.hum
+            h = t.details.measurements.hum
             if h is not None:
                 ax.vlines(h.harmonics_hz, -160.0, h.harmonic_levels_dbfs, color=COLOURS["mark"], linewidth=1.6)
                 ax.plot(h.harmonics_hz, h.harmonic_levels_dbfs, linestyle="none", marker="D", markersize=4,
                         color=COLOURS["mark"], label=f"{t.label}: {h.fundamental_hz:.1f} Hz hum lines")
         ax.set_xlim(0.0, 600.0)
-        lines = [v for t in hum_takes for v in t.details.spectral.hum.harmonic_levels_dbfs]
+        lines = [v for t in hum_takes for v in t.details.measurements.hum.harmonic_levels_dbfs]
         ax.set_ylim(min(lines) - 50.0, max(lines) + 10.0)
         ax.set_xlabel("Frequency (Hz)")
         ax.set_ylabel("dBFS")
@@ -339,7 +339,7 @@ def comparison_figure(takes: Sequence[Take], profile: Any) -> Any:
         top = -200.0
         for k, t in enumerate(takes):
             colour, ls = SERIES[k % len(SERIES)]
-            s = t.details.spectral.spectrum
+            s = t.details.measurements.spectrum
             if s is not None and s.speech_psd_fs2_per_hz is not None:
                 f = np.asarray(s.freqs_hz)
                 keep = (f >= lo) & (f <= hi)

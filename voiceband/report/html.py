@@ -42,7 +42,7 @@ def environment():
 
 def number_rows(now: Any, before: Optional[Any]) -> list[tuple[str, str, Optional[str], str, str]]:
     """(section, quantity, before value or None, value, note) rows of the numbers table."""
-    from ..cli.render import rows
+    from .summary import analysis_rows as rows
 
     r_now = rows(now)
     if before is None:
