@@ -155,3 +155,13 @@ def test_preemphasis_check_reads_the_chain_slope(talker):
     flat = {v.check: v for v in verdicts(_tilted(talker, 0.0), prof)}["preemphasis_db_per_octave"]
     assert emph.value == pytest.approx(6.0, abs=1.5) and emph.status == "pass"
     assert flat.value == pytest.approx(0.0, abs=1.5) and flat.status == "fail"
+
+
+def test_a_failing_check_is_never_called_fine(talker):
+    from voiceband.profiles.verdicts import Verdict
+
+    r = _chain(talker, 300.0, 2700.0)
+    prof = load_profile("ssb-voice")
+    recs = recommendations(r, prof, (Verdict("sii", 0.3, "pass at least 0.75", "fail", "too low."),), None)
+    assert [x.code for x in recs] == ["review"] and "too low" in recs[0].text
+    assert recommendations(r, prof, (Verdict("sii", 0.9, "pass at least 0.75", "pass", "fine."),), None)[0].code == "none"

@@ -100,3 +100,14 @@ def test_not_audio_is_refused(tmp_path):
     bad.write_text("not audio")
     res = runner.invoke(app, ["report", str(bad), "--out", str(tmp_path / "x")])
     assert res.exit_code == 2 and "not an audio file" in res.stderr
+
+
+def test_digital_silence_is_refused(tmp_path):
+    import numpy as np
+    import soundfile as sf
+
+    p = tmp_path / "silent.wav"
+    sf.write(str(p), np.zeros(16000 * 2), 16000)
+    res = runner.invoke(app, ["report", str(p), "--out", str(tmp_path / "x")])
+    assert res.exit_code == 2 and "digital silence" in res.stderr
+    assert not (tmp_path / "x" / "index.html").exists()

@@ -54,7 +54,7 @@ class Recommendation:
     ----------
     code : str
         Stable identifier (``high_pass``, ``low_pass``, ``gain``, ``hum``, ``noise``, ``level``,
-        ``pre_emphasis``, ``none``).
+        ``pre_emphasis``, ``review`` for any other check that does not pass, ``none``).
     text : str
         One or two sentences for the operator.
     """
@@ -330,6 +330,15 @@ def recommendations(result: AnalysisResult, profile: Profile, verdicts: Sequence
     if lv.active_level_dbfs is not None and lv.active_level_dbfs < -40.0:
         add("level", f"Record at a higher level: the speech sits at {lv.active_level_dbfs:.0f} dBFS, so the "
             "recorder's own noise may be what is measured.")
+    covered = {"gain": {"clip_events"}, "high_pass": {"lower_edge_hz"},
+               "low_pass": {"occupied_bandwidth_hz", "upper_edge_hz", "highest_audio_hz"}, "noise": {"snr_db"},
+               "hum": {"hum_db_re_speech"}, "pre_emphasis": {"preemphasis_db_per_octave"}}
+    done = set().union(*(covered.get(r.code, set()) for r in out))
+    from .profiles.verdicts import CHECKS
+
+    for v in verdicts:  # anything else that does not pass: say so with its reason
+        if v.status != "pass" and v.check not in done:
+            add("review", f"{CHECKS[v.check].label}: {v.reason}")
     if not out:
         add("none", f"Nothing needs changing for {profile.title}: every judged quantity passes.")
     return tuple(out)

@@ -59,12 +59,14 @@ def _headline(report: Any) -> str:
     vs = report.now.verdicts
     n = {s: sum(1 for v in vs if v.status == s) for s in STATUSES}
     title = report.profile.title
+    missing = len(report.now.not_judged)
+    tail = f" ({missing} more could not be judged from this recording.)" if missing else ""
     if n["fail"]:
         return f"Not yet right for {title}: {n['fail']} of {len(vs)} checks fail" + (
-            f", {n['marginal']} marginal." if n["marginal"] else ".")
+            f", {n['marginal']} marginal." if n["marginal"] else ".") + tail
     if n["marginal"]:
-        return f"Usable for {title}, with {n['marginal']} marginal point{'s' if n['marginal'] > 1 else ''}."
-    return f"Right for {title}: all {len(vs)} checks pass."
+        return f"Usable for {title}, with {n['marginal']} marginal point{'s' if n['marginal'] > 1 else ''}." + tail
+    return f"Right for {title}: all {len(vs)} judged checks pass." + tail
 
 
 def _limits(profile: Any) -> list[dict]:

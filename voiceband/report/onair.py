@@ -64,6 +64,10 @@ def _take(path: Union[str, os.PathLike], profile: Profile, *, channel, role: str
     from ..analysis import analyze_file_detailed
 
     result, details = analyze_file_detailed(path, channel=channel)
+    if result.levels.peak_dbfs is None:
+        from ..errors import SignalValueError
+
+        raise SignalValueError(f"'{result.input.path}' is digital silence (every sample is zero): there is no audio to judge.")
     vs = verdicts(result, profile)
     search = search_cutoffs(result, profile)
     return TakeReport(
