@@ -22,6 +22,8 @@ Chain response
 On-air test report
     :func:`load_profile`, :func:`profile_verdicts`, :func:`search_cutoffs`, :func:`recommendations`,
     :func:`build_report`, :func:`write_report`, :func:`analyze_file_detailed`.
+Design bench
+    :func:`read_chain` -> ``Chain``; :func:`evaluate_chain`, :func:`compare_chains`, :func:`sweep_cutoffs`.
 """
 
 from __future__ import annotations
@@ -89,6 +91,10 @@ _LAZY = {
     "mains_hum": ("voiceband.synth", "mains_hum"),
     "static_crashes": ("voiceband.synth", "static_crashes"),
     "measure_response": ("voiceband.response", "measure_response"),
+    "read_chain": ("voiceband.chain", "read_chain"),
+    "evaluate_chain": ("voiceband.design.evaluate", "evaluate_chain"),
+    "compare_chains": ("voiceband.design.compare", "compare_chains"),
+    "sweep_cutoffs": ("voiceband.design.sweep", "sweep_cutoffs"),
 }
 
 __all__ = [
