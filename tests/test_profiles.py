@@ -13,7 +13,7 @@ import pytest
 import soundfile as sf
 from scipy import signal
 
-from voiceband.analysis import analyze_signal
+from voiceband.analysis import analyze_signal, measure_recording
 from voiceband.profiles import Limit, ProfileError, load_profile, profile_names
 from voiceband.profiles.verdicts import CHECKS, judge, verdicts
 from voiceband.recommend import importance_fraction_below, power_fraction_below, recommendations, search_cutoffs
@@ -31,6 +31,13 @@ def _chain(talker, low_hz, high_hz, order=4, gain=2.0):
     x, fs = talker
     sos = signal.butter(order, [low_hz, high_hz], btype="bandpass", fs=fs, output="sos")
     return analyze_signal(gain * signal.sosfilt(sos, x), fs)
+
+
+def _psd(talker, low_hz, high_hz, order=4, gain=2.0):
+    """The long-term spectrum of the same chain (the cutoff search runs on the talker's PSD)."""
+    x, fs = talker
+    sos = signal.butter(order, [low_hz, high_hz], btype="bandpass", fs=fs, output="sos")
+    return measure_recording(gain * signal.sosfilt(sos, x), fs).spectrum
 
 
 def test_builtin_profiles_load_with_a_source_beside_every_limit():
@@ -101,7 +108,7 @@ def test_100_5000_chain_fails_ssb_bandwidth_and_gets_a_low_pass(talker):
     assert vs["occupied_bandwidth_hz"].status == "fail"
     assert vs["occupied_bandwidth_hz"].value > 3000.0
     assert "wider than" in vs["occupied_bandwidth_hz"].reason
-    search = search_cutoffs(r, prof)
+    search = search_cutoffs(r, prof, _psd(talker, 100.0, 5000.0))
     assert search.low_pass_hz <= prof.passband_high_hz
     recs = recommendations(r, prof, tuple(vs.values()), search)
     assert any(rec.code == "low_pass" and "Lower the low-pass" in rec.text for rec in recs)
@@ -116,7 +123,7 @@ def test_clipped_chain_gets_the_gain_advice(talker):
     vs = verdicts(r, prof)
     clip = next(v for v in vs if v.check == "clip_events")
     assert clip.status == "fail" and clip.value > 3
-    recs = recommendations(r, prof, vs, search_cutoffs(r, prof))
+    recs = recommendations(r, prof, vs, search_cutoffs(r, prof, measure_recording(y, fs).spectrum))
     gain = recs[0]
     assert gain.code == "gain" and "down about" in gain.text and f"{r.clipping.event_count} clipping events" in gain.text
     # active level about -12 dBFS, clip at -6.02 dBFS, speech peaks 15 dB above the active level

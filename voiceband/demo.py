@@ -12,8 +12,8 @@ rendered with :func:`voiceband.synth.corpus.render`:
 
 Each board's audio crosses a quiet receiver (band-limited hiss 30 dB below the speech) as a friend
 would record it.  The demo writes the recordings, one report per board -- board B's with board A as
-"before", so it shows what the change did -- and a comparison page.  The filters are
-Butterworth designs applied with :mod:`scipy.signal` in :func:`apply_board`.
+"before", so it shows what the change did -- and a comparison page.  Each board is a
+:class:`voiceband.chain.Chain` (:func:`board_chain`); :func:`apply_board` puts the talker through it.
 """
 
 from __future__ import annotations
@@ -22,11 +22,14 @@ import base64
 import os
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Callable, Optional, Union
+from typing import TYPE_CHECKING, Callable, Optional, Union
 
 import numpy as np
 
-__all__ = ["BOARDS", "Board", "apply_board", "talker", "run_demo", "demo_outputs"]
+if TYPE_CHECKING:
+    from .chain import Chain
+
+__all__ = ["BOARDS", "Board", "board_chain", "apply_board", "talker", "run_demo", "demo_outputs"]
 
 PROFILE = "ssb-voice"
 SAMPLE_RATE_HZ = 48000
@@ -67,24 +70,30 @@ def talker() -> np.ndarray:
     return render(spec)
 
 
-def apply_board(x: np.ndarray, board: Board, *, seed: int = 0) -> np.ndarray:
-    """The board's audio as recorded: microphone gain, filter, hum, receiver hiss, output-stage clipping."""
-    from scipy import signal
+def board_chain(board: Board) -> "Chain":
+    """The board as a :class:`voiceband.chain.Chain`: microphone gain and the band-pass filter."""
+    from .chain import Chain, Filter, Gain
 
+    return Chain(board.name, (Gain(gain=10.0 ** (board.mic_gain_db / 20.0)),
+                              Filter(kind="bandpass", type="butterworth", order=board.order,
+                                     low_hz=board.low_hz, high_hz=board.high_hz)))
+
+
+def apply_board(x: np.ndarray, board: Board, *, seed: int = 0) -> np.ndarray:
+    """The board's audio as recorded: the board's chain, hum, receiver hiss, output-stage clipping."""
+    from .chain import Clipper
     from .measurement.levels import measure_levels
     from .synth.noise import mains_hum, receiver_hiss
 
     fs = SAMPLE_RATE_HZ
     active = measure_levels(x, fs).active_level_dbfs
-    sos = signal.butter(board.order, [board.low_hz, board.high_hz], btype="bandpass", fs=fs, output="sos")
-    y = signal.sosfilt(sos, x * 10.0 ** (board.mic_gain_db / 20.0))
+    y = board_chain(board).process(x, fs)
     speech = active + board.mic_gain_db
     if board.hum_db_re_speech is not None:
         y = y + mains_hum(DURATION_S, fs, mains_hz=50.0, level_dbfs=speech + board.hum_db_re_speech, seed=seed + 1)[: y.size]
     y = y + receiver_hiss(DURATION_S, fs, low_hz=250.0, high_hz=3200.0, level_dbfs=active - 30.0, seed=seed + 2)[: y.size]
     if board.preamp_clip_dbfs is not None:  # the overdriven output stage, heard on the monitor output
-        c = 10.0 ** (board.preamp_clip_dbfs / 20.0)
-        y = np.clip(y, -c, c)
+        y = Clipper(mode="hard", level_dbfs=board.preamp_clip_dbfs).process(y, fs)
     peak = float(np.max(np.abs(y)))
     return y / peak * 0.89 if peak > 0.89 else y  # the receiver's recording level keeps 1 dB of headroom
 

@@ -2,19 +2,19 @@
 
 Pure functions: they read an :class:`~voiceband.results.AnalysisResult`, a
 :class:`~voiceband.profiles.Profile` and its verdicts, and return frozen
-:class:`Recommendation` records.  The cutoffs come from :func:`search_cutoffs`, a search over
-high-pass and low-pass corner frequencies run on this talker's own measured band spectrum with
-the ANSI S3.5-1997 SII (band gains of each candidate filter by power-averaging |H|^2,
-:func:`voiceband.intelligibility.band_gains_db`), with white channel noise at a stated channel
-SNR in the service's receive passband: a weak-signal contact, where a transmitter's limited power
-is better spent in the bands that carry intelligibility.
+:class:`Recommendation` records.  The cutoffs come from :func:`search_cutoffs`, which runs the design
+bench's cutoff sweep (:func:`voiceband.design.sweep.sweep_cutoffs`, the SII band-gain model) on this
+talker's own long-term speech spectrum with white channel noise at a stated channel SNR in the
+service's receive passband: a weak-signal contact, where a transmitter's limited power is better
+spent in the bands that carry intelligibility.
 """
 
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Optional, Sequence
+from pathlib import Path
+from typing import Any, Optional, Sequence
 
 import numpy as np
 
@@ -73,8 +73,9 @@ class CutoffSearch:
         The best corner frequencies found (Hz).
     sii_best : float
         SII at the search's channel SNR with the best filter added.
-    sii_now : float
-        SII at the same channel SNR with no filter added (the recording as it is).
+    sii_widest : float
+        SII at the same channel SNR of the widest candidate (the lowest high-pass and the service's
+        upper limit): what the service's band alone gives.
     channel_snr_db : float
     receive_band_hz : tuple of float
     method : str
@@ -84,7 +85,7 @@ class CutoffSearch:
     high_pass_hz: float
     low_pass_hz: float
     sii_best: float
-    sii_now: float
+    sii_widest: float
     channel_snr_db: float
     receive_band_hz: tuple[float, float]
     method: str
@@ -121,12 +122,6 @@ def talker_sii_spectrum_db(result: AnalysisResult) -> tuple[np.ndarray, Optional
     return pick(speech), (None if noise is None else pick(noise))
 
 
-def _butterworth_power(f: np.ndarray, high_pass_hz, low_pass_hz, order: int) -> np.ndarray:
-    hp = np.asarray(high_pass_hz, dtype=float)[..., None]
-    lp = np.asarray(low_pass_hz, dtype=float)[..., None]
-    return 1.0 / (1.0 + (hp / f) ** (2 * order)) / (1.0 + (f / lp) ** (2 * order))
-
-
 def sii_at_channel_snr(result: AnalysisResult, snr_db: float = SEARCH_CHANNEL_SNR_DB,
                        *, receive_band_hz: Optional[tuple[float, float]] = None) -> Optional[float]:
     """SII of the recording with white channel noise at ``snr_db`` (its own noise kept).
@@ -145,30 +140,34 @@ def sii_at_channel_snr(result: AnalysisResult, snr_db: float = SEARCH_CHANNEL_SN
                                     receive_band_hz=receive_band_hz)[0].sii)
 
 
-def search_cutoffs(result: AnalysisResult, profile: Profile, *,
+def search_cutoffs(result: AnalysisResult, profile: Profile, spectrum: Any, *,
                    channel_snr_db: float = SEARCH_CHANNEL_SNR_DB,
                    high_pass_candidates_hz: Optional[Sequence[float]] = None,
                    low_pass_candidates_hz: Optional[Sequence[float]] = None) -> Optional[CutoffSearch]:
-    """Best high-pass and low-pass corners for this talker and service, by SII in channel noise.
+    """Best high-pass and low-pass corners for this talker and service: the design bench's cutoff sweep
+    (:func:`voiceband.design.sweep.sweep_cutoffs`) run on this talker's own long-term speech spectrum.
 
-    Each candidate pair is a ``FILTER_ORDER``-pole Butterworth high-pass and low-pass added to the
-    recorded audio (high-pass corners from 50 Hz up to 1.5 times the profile's lower limit: higher
-    ones would thin the voice more than the service's band implies); its SII band gains (:func:`voiceband.intelligibility.band_gains_db`) shape the
-    talker's measured SII-band spectrum (:func:`talker_sii_spectrum_db`); white channel noise at
-    ``channel_snr_db`` relative to the *filtered* speech power fills the profile's passband (the
-    receiver), the recording's own noise is kept, and the SII follows ANSI S3.5-1997 clause 4 in
-    one batched call.  Low-pass candidates stop at the profile's upper limit, so the result always
-    fits the service.  Power removed below a high-pass raises the rest against the channel noise:
-    this is why a steeper or higher high-pass can help in a weak-signal contact.
+    The talker's speech PSD (``spectrum``, the analysis's
+    :class:`~voiceband.measurement.spectrum.SpectrumResult`) becomes the sweep's speech model
+    (:func:`voiceband.design.speech.speech_from_psd`); every candidate is a ``FILTER_ORDER``-pole
+    Butterworth high-pass and low-pass, scored by its SII (ANSI S3.5-1997) with white channel noise at
+    ``channel_snr_db`` in the profile's passband (the receiver), within the profile's occupied-bandwidth
+    limit when it has one.  High-pass corners run from 50 Hz to 1.5 times the profile's lower limit
+    (higher ones would thin the voice more than the service's band implies), low-pass corners up to the
+    profile's upper limit.  ``sii_widest`` is the score of the widest candidate (the lowest high-pass and
+    the service's upper limit): what a filter adds over the service's band alone.
 
-    Returns ``None`` when the recording has no SII-band speech spectrum.
+    Returns ``None`` when there is no speech spectrum, it stops below 4 kHz, or no pair fits.
     """
-    from .intelligibility import band_gains_db
+    from .design.speech import speech_from_psd
+    from .design.sweep import sweep_cutoffs
+    from .errors import MeasurementError
 
-    if result.intelligibility is None:
+    if spectrum is None or spectrum.speech_psd_fs2_per_hz is None:
         return None
-    speech, noise = talker_sii_spectrum_db(result)
-    if not np.any(np.isfinite(speech)):
+    try:
+        model = speech_from_psd(Path(result.input.path).name, spectrum.freqs_hz, spectrum.speech_psd_fs2_per_hz)
+    except MeasurementError:
         return None
     lo_band, hi_band = profile.passband_low_hz, profile.passband_high_hz
     fs2 = result.input.sample_rate_hz / 2.0
@@ -179,47 +178,24 @@ def search_cutoffs(result: AnalysisResult, profile: Profile, *,
     lp_c = np.asarray(low_pass_candidates_hz if low_pass_candidates_hz is not None
                       else np.union1d(np.arange(1800.0, top + 1.0, 100.0), [top]), dtype=float)
     hp_c = hp_c[hp_c < lp_c.max() / 2.0]
-    hp, lp = (g.ravel() for g in np.meshgrid(hp_c, lp_c, indexing="ij"))
-    f = np.geomspace(20.0, 20000.0, 2048)
-    gains = band_gains_db(f, np.sqrt(_butterworth_power(f, hp, lp, FILTER_ORDER)))
-    gains = np.vstack([gains, np.zeros((1, gains.shape[1]))])  # last row: no filter added
+    limit = _upper_pass(profile, "occupied_bandwidth_hz")
     rb = (float(lo_band), float(hi_band))
-    idx = _weak_signal_sii(speech, noise, gains, rb, float(channel_snr_db))
-    # the highest SII; among near-ties (within 0.002) the narrowest filter, which costs least bandwidth
-    best = float(np.max(idx[:-1]))
-    near = np.flatnonzero(idx[:-1] >= best - 0.002)
-    k = int(near[np.lexsort((-hp[near], lp[near]))[0]])
+    try:
+        sweep = sweep_cutoffs(hp_c, lp_c, order=FILTER_ORDER, max_bandwidth_hz=limit if math.isfinite(limit) else None,
+                              snrs_db=(float(channel_snr_db),), receive_band_hz=rb, speech=model)
+    except MeasurementError:
+        return None
+    if sweep.best is None:
+        return None
+    widest = float(sweep.sii[int(np.argmin(sweep.low_hz)), int(np.argmax(sweep.high_hz))])
     return CutoffSearch(
-        high_pass_hz=float(hp[k]), low_pass_hz=float(lp[k]), sii_best=float(idx[k]), sii_now=float(idx[-1]),
+        high_pass_hz=sweep.best.low_hz, low_pass_hz=sweep.best.high_hz, sii_best=sweep.best.sii, sii_widest=widest,
         channel_snr_db=float(channel_snr_db), receive_band_hz=rb,
-        method=(f"{FILTER_ORDER}-pole Butterworth high-pass {hp_c.min():.0f}–{hp_c.max():.0f} Hz and low-pass "
-                f"{lp_c.min():.0f}–{lp_c.max():.0f} Hz added to this recording; SII (ANSI S3.5-1997) of this "
-                f"talker's spectrum with white channel noise at {channel_snr_db:g} dB SNR in {rb[0]:.0f}–{rb[1]:.0f} Hz"),
+        method=(f"the design bench's cutoff sweep on this talker's own spectrum: {FILTER_ORDER}-pole Butterworth "
+                f"high-pass {hp_c.min():.0f}–{hp_c.max():.0f} Hz and low-pass {lp_c.min():.0f}–{lp_c.max():.0f} Hz, "
+                f"SII (ANSI S3.5-1997) with white channel noise at {channel_snr_db:g} dB SNR in "
+                f"{rb[0]:.0f}–{rb[1]:.0f} Hz" + (f", occupied bandwidth at most {limit:.0f} Hz" if math.isfinite(limit) else "")),
     )
-
-
-def _weak_signal_sii(speech: np.ndarray, noise: Optional[np.ndarray], tx_gains_db: np.ndarray,
-                     receive_band_hz: tuple[float, float], channel_snr_db: float) -> np.ndarray:
-    """SII of speech through transmit filters (a batch of band gains), a noisy channel and a receiver.
-
-    The channel SNR is referenced to the *transmitted* speech power (the transmit filter's output:
-    a transmitter's power is what it is, whatever the filter lets through); white channel noise
-    fills the receive passband (:func:`voiceband.intelligibility.channel_noise_spectrum`); the
-    receiver, a brick-wall filter on that passband, then limits the speech and the recording's
-    own noise (which passed the transmit filter too).  ANSI S3.5-1997 clause 4, one batched call.
-    """
-    from .intelligibility import brick_wall_band_gains_db, channel_noise_spectrum, sii
-
-    with np.errstate(divide="ignore", invalid="ignore"):
-        tx = speech[None, :] + tx_gains_db
-        ch = channel_noise_spectrum(tx, channel_snr_db, receive_band_hz=receive_band_hz)
-        rx = brick_wall_band_gains_db(*receive_band_hz)
-        total = 10.0 ** (ch / 10.0)
-        if noise is not None:
-            total = total + 10.0 ** ((noise[None, :] + tx_gains_db + rx) / 10.0)
-        noise_db = 10.0 * np.log10(total)
-        res = sii(tx + rx, noise_db, procedure="one-third-octave")
-    return np.atleast_1d(np.asarray(res.index, dtype=float))
 
 
 def power_fraction_below(result: AnalysisResult, freq_hz: float) -> float:
@@ -293,13 +269,14 @@ def recommendations(result: AnalysisResult, profile: Profile, verdicts: Sequence
     if search is not None:
         hp = search.high_pass_hz
         now_low = e.low if e.low is not None else (e.lowest_band_hz or 0.0)
-        gain = search.sii_best - search.sii_now
+        gain = search.sii_best - search.sii_widest
         if hp > 1.25 * max(now_low, 1.0) and (gain >= 0.02 or (v_low is not None and v_low.status != "pass")):
             p = power_fraction_below(result, hp)
             i = importance_fraction_below(result, hp) or 0.0
             add("high_pass", f"Raise the high-pass to about {_round_hz(hp)} Hz: {100 * p:.0f} % of your power "
                 f"lies below it but only {100 * i:.0f} % of the intelligibility "
-                f"(SII at {search.channel_snr_db:g} dB channel SNR {search.sii_now:.2f} → {search.sii_best:.2f}).")
+                f"(SII at {search.channel_snr_db:g} dB channel SNR {search.sii_widest:.2f} with the service's band alone, "
+                f"{search.sii_best:.2f} with the suggested filter).")
         wide = (v_obw is not None and v_obw.status != "pass" and v_obw.value > _upper_pass(profile, v_obw.check)) or (
             v_high is not None and v_high.status != "pass" and v_high.value > _upper_pass(profile, "upper_edge_hz"))
         if wide:

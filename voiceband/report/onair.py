@@ -69,7 +69,7 @@ def _take(path: Union[str, os.PathLike], profile: Profile, *, channel, role: str
 
         raise SignalValueError(f"'{result.input.path}' is digital silence (every sample is zero): there is no audio to judge.")
     vs = verdicts(result, profile)
-    search = search_cutoffs(result, profile)
+    search = search_cutoffs(result, profile, details.measurements.spectrum)
     return TakeReport(
         label=label, role=role, result=result, details=details, verdicts=vs,
         not_judged=not_judged(result, profile), search=search,
