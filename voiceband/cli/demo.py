@@ -12,7 +12,7 @@ from .common import guarded
 
 @guarded
 def demo(
-    out: Annotated[Path, typer.Option("--out", "-o", help="Folder for the demo reports.", metavar="DIR")] = Path("reports/demo"),
+    out: Annotated[Path, typer.Option("--out", "-o", help="Folder for the demo reports.", metavar="DIR", readable=False)] = Path("reports/demo"),
     force: Annotated[bool, typer.Option("--force", help="Overwrite an earlier demo in the folder.")] = False,
 ) -> None:
     """Build a scenario from the synthetic corpus and write its reports: the quickest way to see what voiceband does."""

@@ -13,14 +13,14 @@ from .common import guarded
 @guarded
 def report(
     file: Annotated[Path, typer.Argument(help="Recording of the transmitted audio (after the change, if --before is given).",
-                                         show_default=False)],
+                                         show_default=False, readable=False)],
     profile: Annotated[str, typer.Option("--profile", "-p", help="Service profile: ssb-voice, am-voice, fm-voice-narrow, "
                                          "fm-voice-wide, telephone, wideband, or the path of your own TOML profile.",
                                          metavar="NAME|FILE")] = "ssb-voice",
     before: Annotated[Optional[Path], typer.Option("--before", help="A recording made before a change, shown side by side.",
-                                                   metavar="FILE")] = None,
+                                                   metavar="FILE", readable=False)] = None,
     out: Annotated[Optional[Path], typer.Option("--out", "-o", help="Folder for the report (default: <FILE name>-report).",
-                                                metavar="DIR")] = None,
+                                                metavar="DIR", readable=False)] = None,
     title: Annotated[Optional[str], typer.Option("--title", help="Title of the report.")] = None,
     notes: Annotated[str, typer.Option("--notes", help="Notes printed under the title (station, rig, conditions).")] = "",
     channel: Annotated[str, typer.Option("--channel", "-c", help="Channel to analyse: a number from 0, or 'mix'.")] = "0",
@@ -31,6 +31,10 @@ def report(
     from ..profiles import load_profile
     from ..report.onair import build_report, check_outputs, write_report
 
+    from ..inputs import regular_file
+
+    for p in [file] + ([before] if before is not None else []):
+        regular_file(p)  # an input that cannot be read is said before its outputs are looked at
     folder = out if out is not None else Path(f"{file.stem}-report")
     prof = load_profile(profile)  # a bad profile is refused before the work
     check_outputs(folder, pdf=pdf, before=before is not None, force=force,

@@ -168,11 +168,11 @@ def check_outputs(out: Path, *, pdf: bool, before: bool, force: bool, inputs=())
     """Refuse now, before the work, any file the report could not write (exists without ``force``, is an input, ...)."""
     from ..outputs import check_writable
 
-    if out.exists() and not out.is_dir():
+    if os.path.isfile(out):
         from ..errors import OutputExistsError
 
         raise OutputExistsError(f"'{out}' exists and is not a folder; give a folder for the report.")
-    for name in output_names(pdf=pdf, before=before):
+    for name in output_names(pdf=pdf, before=before):  # names checked for length before any stat of them
         check_writable(out / name, force=force, inputs=inputs, make_folders=True)
 
 
