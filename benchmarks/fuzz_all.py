@@ -281,7 +281,26 @@ class _Case:
         return a
 
 
-_WEIGHTS = {"analyze": 3, "response": 2, "testsignal": 3, "synth": 1.5, "chain": 1.5, "compare": 0.6, "sweep": 1.0}
+    def report(self) -> list:
+        a = ["report", self.audio()]
+        self.opt(a, "--out", self.dest("") if self.rng.random() < 0.5 else str(self.out / "rep"), 0.9)
+        self.opt(a, "--profile", self.rng.choice(["ssb-voice", "fm-voice-narrow", "telephone", "nope",
+                                                  self.f["notoml"], self.f["good.wav"]]), 0.4)
+        self.opt(a, "--before", self.audio(), 0.15)
+        self.opt(a, "--channel", self.rng.choice(["0", "mix", "2"]), 0.1)
+        if self.rng.random() < 0.2:
+            a.append("--force")
+        return a
+
+    def demo(self) -> list:
+        # A whole demo builds several reports (tens of seconds); the fuzz gives it the destinations
+        # that must be refused before that work, and a folder that already holds a demo.
+        return ["demo", "--out", self.rng.choice(["/proc/x", self.f["good.wav"], str(self.out / ("e" * 300)),
+                                                  self.f["good.wav"] + "/d", "/dev/full"])]
+
+
+_WEIGHTS = {"analyze": 3, "response": 2, "testsignal": 3, "synth": 1.5, "chain": 1.5, "compare": 0.6, "sweep": 1.0,
+            "report": 0.8, "demo": 0.2}
 
 
 def _classify(res, code: int) -> str:
