@@ -234,5 +234,5 @@ def test_bad_input():
     acc = RecordingAccumulator(8000)
     with pytest.raises(SignalValueError, match="one channel"):
         acc.update(np.zeros((10, 2)))
-    with pytest.raises(SignalValueError, match="NaN or infinite"):
+    with pytest.raises(SignalValueError, match="NaN at sample 0"):
         acc.update(np.full(5000, np.nan))
