@@ -27,6 +27,7 @@ __all__ = [
     "read",
     "write",
     "write_blocks",
+    "check_format",
     "encode",
     "Channel",
 ]
@@ -238,10 +239,22 @@ def _encoding(path: Path, samples: np.ndarray, sample_rate_hz: int, subtype: str
         validate.sample_rate_hz(sample_rate_hz)
     except SignalValueError as exc:
         raise AudioFormatError(str(exc)) from None
+    fmt, subtype = check_format(path, subtype)
+    return x, fmt, subtype
+
+
+def check_format(path: Union[str, os.PathLike], subtype: str = "PCM_16") -> tuple[str, str]:
+    """The soundfile format and subtype for writing ``path`` (format from its extension), checked
+    before any work: an unknown extension or a sample format the container cannot hold is refused."""
+    path = Path(path)
     fmt = {".wav": "WAV", ".flac": "FLAC", ".ogg": "OGG"}.get(path.suffix.lower())
     if fmt is None:
         raise AudioFormatError(f"cannot write '{path.name}': use a .wav, .flac or .ogg file name.")
-    return x, fmt, ("VORBIS" if fmt == "OGG" else subtype)
+    subtype = "VORBIS" if fmt == "OGG" else subtype
+    if not _sf().check_format(fmt, subtype):
+        raise AudioFormatError(f"cannot write '{path.name}': {fmt} files cannot hold {subtype} samples; "
+                               f"use {'--bits 16 or 24' if fmt == 'FLAC' else 'a .wav file name'}.")
+    return fmt, subtype
 
 
 def write(

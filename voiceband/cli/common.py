@@ -8,6 +8,7 @@ import os
 import signal
 import sys
 import threading
+import warnings
 from pathlib import Path
 from typing import Any, Callable
 
@@ -116,7 +117,11 @@ def guarded(fn: Callable[..., Any]) -> Callable[..., Any]:
         _catch_termination()
         _names_as_bytes()
         try:
-            return fn(*args, **kwargs)
+            with warnings.catch_warnings():
+                if not os.environ.get("VOICEBAND_DEBUG"):
+                    # numpy's overflow notes are not for users: the result or our sentence says what matters
+                    warnings.simplefilter("ignore", RuntimeWarning)
+                return fn(*args, **kwargs)
         except typer.Exit:
             raise
         except VoicebandError as exc:

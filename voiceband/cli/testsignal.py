@@ -64,7 +64,7 @@ def testsignal(
 ) -> None:
     """Write a test signal for measuring a transmit chain; prints its levels (and the multitone crest factor)."""
     from .. import validate
-    from ..audio import write_blocks
+    from ..audio import check_format, write_blocks
     from ..errors import SignalValueError
     from ..outputs import check_writable
     from ..synth.testsignals import stream_test_signal
@@ -73,6 +73,7 @@ def testsignal(
     if bits not in _SUBTYPE:
         raise SignalValueError(f"--bits must be 16, 24 or 32, got {bits}.")
     check_writable(out, force=force, make_folders=True)
+    check_format(out, _SUBTYPE[bits])
     k = Kind(kind)
     if k is Kind.steps and duration_s is not None:
         raise SignalValueError("'steps' takes its length from --dwell-s, --gap-s and the number of tones; leave out --duration-s.")

@@ -513,12 +513,12 @@ def generate(
 
     specs = _read_specs(spec_paths)
     out = Path(out_dir)
-    if out.exists() and not out.is_dir():
-        raise ChainFileError(f"'{out}' is a file; --out needs a folder.")
     manifest_path = out / MANIFEST_NAME
-    for s in specs:
+    for s in specs:  # names checked for length before any stat of them
         check_writable(out / s.output, force=force, make_folders=True)
     check_writable(manifest_path, force=force, make_folders=True)
+    if os.path.lexists(out) and not out.is_dir():
+        raise ChainFileError(f"'{out}' is a file; --out needs a folder.")
     entries = _load_manifest(manifest_path)
     if out.is_dir():
         sweep_stale(out)
