@@ -11,8 +11,11 @@ import importlib
 
 import typer
 
+from .usage import VoicebandGroup
+
 app = typer.Typer(
     name="voiceband",
+    cls=VoicebandGroup,
     help="Measure and model the transmit audio of voice radio: levels, clipping, hum, "
     "noise, bandwidth and speech intelligibility.",
     no_args_is_help=True,

@@ -30,6 +30,7 @@ def testsignal(
             help="sweep: exponential sine sweep with start/stop markers; multitone: Schroeder-phase "
             "multitone; two-tone: SSB two-tone pair; tone: reference tone; steps: stepped tones.",
             show_default=False,
+            metavar="KIND",
         ),
     ],
     out: Annotated[Path, typer.Option("--out", "-o", help="Output file (.wav or .flac).", show_default=False)],
