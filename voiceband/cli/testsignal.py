@@ -22,7 +22,14 @@ class Kind(str, enum.Enum):
 _SUBTYPE = {16: "PCM_16", 24: "PCM_24", 32: "FLOAT"}
 
 
-@guarded
+# The generators' parameter names, as the options that set them.
+_OPTION_OF = {
+    "level_dbfs": "--peak-dbfs", "frequency_hz": "--tone-hz", "tones_hz": "--tone-hz", "frequencies_hz": "--tone-hz",
+    "n_tones": "--tones", "start_hz": "--low-hz", "stop_hz": "--high-hz", "sample_rate_hz": "--rate-hz",
+}
+
+
+@guarded(options=_OPTION_OF)
 def testsignal(
     kind: Annotated[
         Kind,
