@@ -7,6 +7,7 @@ from typing import Annotated, Any, Optional
 
 import typer
 
+from ..cautions import TRANSMITTER_CAUTION
 from .common import emit_json, guarded
 
 
@@ -58,11 +59,12 @@ def response(
 
 
 def _print_summary(r: Any, png: Optional[Path]) -> None:
-    from ..report.summary import response_lines
+    from ..report.summary import response_rows
+    from .render import Item, print_report
 
-    for line in response_lines(r):
-        typer.echo(line)
-    for f in r.findings:
-        typer.echo(f"Note: {f.message}")
+    rows = response_rows(r)
     if png is not None:
-        typer.echo(f"Plot             {png}")
+        rows.append(("Output", "Plot", "", str(png)))
+    items = [Item(f.severity, f.message) for f in r.findings]
+    items.append(Item("caution", TRANSMITTER_CAUTION))
+    print_report(None, rows, items, items_title="Notes")
