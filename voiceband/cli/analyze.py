@@ -30,11 +30,11 @@ def analyze(
         check_writable(Path(json_path), force=force, inputs=(file,))  # refuse before the work, not after
     progress = _progress_printer() if json_path != "-" and sys.stderr.isatty() else None
     result = analyze_file(file, channel=channel, progress=progress)
+    emit_json(result, json_path, force=force)  # files first: a reader that stops early loses no output
     if json_path != "-":
         from .render import print_analysis
 
         print_analysis(result)
-    emit_json(result, json_path, force=force)
 
 
 def _progress_printer() -> Any:

@@ -91,6 +91,11 @@ def lines_of_report(
             if _cells(label) > qw:  # a long quantity gets its own line, the value under it
                 out.append((label, ""))
                 label = ""
+            if not v:  # text only: it takes the value's place and wraps under itself
+                pad = " " * (qw + _GAP)
+                first = label + " " * (qw - _cells(label) + _GAP)
+                out.extend((ln, "") for ln in _wrap(n, columns, first, pad))
+                continue
             left = label + " " * (qw - _cells(label) + _GAP) + " " * (vw - _cells(v)) + v
             if not n:
                 out.append((left.rstrip(), ""))

@@ -53,9 +53,9 @@ def response(
         fig = bode_figure(result)
         with atomic_output(png, force=force, make_folders=True) as tmp:
             fig.savefig(tmp, format="png")
+    emit_json(doc, json_path, force=force, make_folders=json_in_out)  # files first: a reader that stops early loses no output
     if json_path != "-":
         _print_summary(result, png)
-    emit_json(doc, json_path, force=force, make_folders=json_in_out)
 
 
 def _print_summary(r: Any, png: Optional[Path]) -> None:

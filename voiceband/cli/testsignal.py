@@ -19,13 +19,11 @@ class Kind(str, enum.Enum):
     steps = "steps"
 
 
-_SUBTYPE = {16: "PCM_16", 24: "PCM_24", 32: "FLOAT"}
-
-
 # The generators' parameter names, as the options that set them.
 _OPTION_OF = {
     "level_dbfs": "--peak-dbfs", "frequency_hz": "--tone-hz", "tones_hz": "--tone-hz", "frequencies_hz": "--tone-hz",
     "n_tones": "--tones", "start_hz": "--low-hz", "stop_hz": "--high-hz", "sample_rate_hz": "--rate-hz",
+    "bits": "--bits",
 }
 
 
@@ -72,12 +70,14 @@ def testsignal(
 ) -> None:
     """Write a test signal for measuring a transmit chain; prints its levels (and the multitone crest factor)."""
     from ..audio import write
+    from ..cautions import TRANSMITTER_CAUTION
     from ..errors import SignalValueError
     from ..outputs import check_writable
-    from ..synth.testsignals import make_test_signal
+    from ..report.summary import number
+    from ..synth.testsignals import file_subtype, make_test_signal
+    from .render import Item, print_report
 
-    if bits not in _SUBTYPE:
-        raise SignalValueError(f"--bits must be 16, 24 or 32, got {bits}.")
+    subtype = file_subtype(str(out), bits)
     check_writable(out, force=force, make_folders=True)
     k = Kind(kind)
     if k is Kind.steps and duration_s is not None:
@@ -94,7 +94,7 @@ def testsignal(
     sig = make_test_signal(k.value, sample_rate_hz=rate_hz, peak_dbfs=peak_dbfs, duration_s=duration_s, low_hz=low_hz,
                            high_hz=high_hz, tones=tones, tone_hz=tone_hz, dwell_s=dwell_s, gap_s=gap_s, markers=markers)
     samples, fs = sig.samples, sig.sample_rate_hz
-    write(out, samples, fs, subtype=_SUBTYPE[bits], force=force, make_folders=True)
-    typer.echo(f"{out}: {samples.size / fs:.3f} s at {fs} Hz, {_SUBTYPE[bits]}")
-    for line in sig.lines:
-        typer.echo("  " + line)
+    write(out, samples, fs, subtype=subtype, force=force, make_folders=True)
+    rows = [("", "Written", f"{number(samples.size / fs, 3)} s", f"{fs} Hz, {subtype}")]
+    rows += [("", "Signal" if i == 0 else "", "", line) for i, line in enumerate(sig.lines)]
+    print_report(str(out), rows, [Item("caution", TRANSMITTER_CAUTION)], items_title="Before you transmit")
