@@ -23,7 +23,7 @@ if TYPE_CHECKING:  # typing only
 
     from ..results import AnalysisResult
 
-__all__ = ["Item", "console", "width", "print_report", "print_analysis", "lines_of_report"]
+__all__ = ["Item", "console", "width", "print_report", "print_analysis", "lines_of_report", "grid_lines", "print_grid"]
 
 #: Marks before findings by severity.
 _MARKS = {"problem": ("✗", "red"), "warning": ("!", "yellow"), "info": ("·", ""), "caution": ("!", "yellow"),
@@ -143,3 +143,51 @@ def print_analysis(r: "AnalysisResult") -> None:
 
     print_report(analysis_heading(r), analysis_rows(r),
                  [Item(f.severity, f.message, f.code) for f in r.findings])
+
+
+def grid_lines(headers: Sequence[str], rows: Sequence[Sequence[str]], *, columns: int = 80) -> Optional[list[str]]:
+    """A table with a header line, the first column left-aligned and the others right-aligned, or
+    ``None`` when it does not fit in ``columns`` (the caller then prints one block per row)."""
+    n = len(headers)
+    widths = [max([_cells(headers[j])] + [_cells(r[j]) for r in rows]) for j in range(n)]
+    if sum(widths) + _GAP * (n - 1) > columns:
+        return None
+    out = []
+    for cells in [list(headers), *[list(r) for r in rows]]:
+        parts = [cells[0] + " " * (widths[0] - _cells(cells[0]))]
+        parts += [" " * (widths[j] - _cells(cells[j])) + cells[j] for j in range(1, n)]
+        out.append((" " * _GAP).join(parts).rstrip())
+    return out
+
+
+def print_grid(
+    heading: Optional[str],
+    headers: Sequence[str],
+    rows: Sequence[Sequence[str]],
+    items: Iterable[Item] = (),
+    *,
+    items_title: str = "Notes",
+) -> None:
+    """Print a table with one line per record when it fits the terminal; otherwise one block per
+    record (its first cell as the section, the other columns as quantity and value), as
+    :func:`print_report` prints it."""
+    from rich.text import Text
+
+    con = console()
+    cols = width(con)
+    grid = grid_lines(headers, rows, columns=cols)
+    if grid is None:
+        blocks = []
+        for r in rows:
+            for j in range(1, len(headers)):
+                blocks.append((r[0] if j == 1 else "", headers[j], r[j], ""))
+        print_report(heading, blocks, items, items_title=items_title)
+        return
+    if heading:
+        for ln in _wrap(heading, cols, "", "  "):
+            con.print(Text(ln, style="bold"))
+    for i, ln in enumerate(grid):
+        con.print(Text(ln, style="bold" if i == 0 else ""))
+    items = list(items)
+    if items:
+        print_report(None, [], items, items_title=items_title)
