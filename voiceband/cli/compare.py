@@ -91,4 +91,4 @@ def _print_table(r: Any, plot: Optional[Path]) -> None:
                [[("* " if row.best else "") + row.name,
                  *[f"{_f(p.sii_average_ref, '.3f')} / {_f(p.sii_peak_ref, '.3f')}" for p in row.sii_by_channel_snr]]
                 for row in r.chains],
-               [Item("note", f"Best (*): {r.reason}")] + ([Item("note", f"Plot: {plot}")] if plot is not None else []))
+               [Item("note", f"Best: {r.reason} (marked *)")] + ([Item("note", f"Plot: {plot}")] if plot is not None else []))
