@@ -118,7 +118,9 @@ def guarded(fn: Optional[Callable[..., Any]] = None, *, options: Optional[Mappin
     def wrapper(*args: Any, **kwargs: Any) -> Any:
         _catch_termination()
         try:
-            return fn(*args, **kwargs)
+            rv = fn(*args, **kwargs)
+            sys.stdout.flush()  # a closed pipe shows here, not at the interpreter's last flush
+            return rv
         except typer.Exit:
             raise
         except BrokenPipeError:

@@ -45,7 +45,14 @@ def console(*, stderr: bool = False) -> "Console":
     """A console that prints text literally (no markup, emoji codes or highlighting), terminal-wide."""
     from rich.console import Console
 
-    return Console(stderr=stderr, markup=False, emoji=False, highlight=False, soft_wrap=True)
+    con = Console(stderr=stderr, markup=False, emoji=False, highlight=False, soft_wrap=True)
+    con.on_broken_pipe = _broken_pipe  # type: ignore[method-assign]  # one handling for every command: cli.common.guarded
+    return con
+
+
+def _broken_pipe() -> None:
+    # rich would exit with status 1 on its own; hand the closed pipe to the command's guard instead.
+    raise BrokenPipeError(32, "Broken pipe")
 
 
 def width(con: Optional["Console"] = None) -> int:
