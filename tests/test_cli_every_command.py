@@ -53,7 +53,7 @@ def _one_line(res, cmd=None) -> str:
     assert not re.search(r"\bnp\.\w+\(", line), line
     if cmd is not None:
         for name in _internal_names(cmd):
-            assert not re.search(rf"(?<![\w-]){name}(?![\w-])", line), (name, line)
+            assert not re.search(rf"(?<![\w-]){name}(?![\w-])", line, re.I), (name, line)
     return line
 
 

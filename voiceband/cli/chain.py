@@ -13,7 +13,7 @@ from .common import emit_json, guarded
 
 @guarded
 def chain(
-    chain_file: Annotated[Path, typer.Argument(help="Chain file (TOML: name and [[stage]] tables).", show_default=False)],
+    chain_file: Annotated[Path, typer.Argument(help="Chain file (TOML: name and [[stage]] tables).", show_default=False, metavar="CHAIN")],
     plot: Annotated[Optional[Path], typer.Option("--plot", help="Write a Bode-style figure (PNG) to FILE.", metavar="FILE")] = None,
     json_path: Annotated[
         Optional[str], typer.Option("--json", help="Also write JSON to PATH; '-' prints only JSON on stdout.", metavar="PATH|-")

@@ -76,6 +76,8 @@ def _option_names(fn: Callable[..., Any]) -> dict[str, str]:
             decls = [d for d in given if isinstance(d, str) and d.startswith("--")]
             if decls:
                 names[pname] = decls[0].split("/")[0]
+                if pname.endswith("_"):  # type_ (a Python keyword's stand-in) is 'type' to the library
+                    names[pname.rstrip("_")] = names[pname]
     return names
 
 

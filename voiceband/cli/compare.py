@@ -13,7 +13,7 @@ from .common import emit_json, guarded
 
 @guarded
 def compare(
-    chain_files: Annotated[list[Path], typer.Argument(help="Chain files to compare (TOML).", show_default=False)],
+    chain_files: Annotated[list[Path], typer.Argument(help="Chain files to compare (TOML).", show_default=False, metavar="CHAIN")],
     speech: Annotated[
         Optional[Path], typer.Option("--speech", help="Speech recording to run through the chains (default: synthetic speech).",
                                      metavar="FILE")
