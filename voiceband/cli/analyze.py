@@ -13,7 +13,8 @@ from .common import emit_json, guarded
 
 @guarded
 def analyze(
-    file: Annotated[Path, typer.Argument(help="Recording of transmit audio (WAV, FLAC, OGG, MP3, ...).", show_default=False)],
+    file: Annotated[Path, typer.Argument(help="Recording of transmit audio (WAV, FLAC, OGG, MP3, ...).", show_default=False,
+                                            metavar="FILE")],
     channel: Annotated[
         str, typer.Option("--channel", "-c", help="Channel to analyse: a number from 0, or 'mix' for the mean of all channels.")
     ] = "0",

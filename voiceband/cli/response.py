@@ -13,8 +13,10 @@ from .common import emit_json, guarded
 
 @guarded
 def response(
-    stimulus: Annotated[Path, typer.Argument(help="The test signal as played (a sweep or multitone file).", show_default=False)],
-    recording: Annotated[Path, typer.Argument(help="What the chain delivered when the test signal was played into it.", show_default=False)],
+    stimulus: Annotated[Path, typer.Argument(help="The test signal as played (a sweep or multitone file).", show_default=False,
+                                                    metavar="STIMULUS")],
+    recording: Annotated[Path, typer.Argument(help="What the chain delivered when the test signal was played into it.",
+                                                     show_default=False, metavar="RECORDING")],
     out: Annotated[
         Optional[Path], typer.Option("--out", help="Folder for the Bode plot (PNG).", metavar="DIR")
     ] = None,
@@ -27,7 +29,11 @@ def response(
     force: Annotated[bool, typer.Option("--force", help="Overwrite existing output files.")] = False,
 ) -> None:
     """Measure magnitude and phase response, passband edges, ripple, distortion and
-    carrier offset of a chain from a recording of a sweep or multitone."""
+    carrier offset of a chain from a recording of a sweep or multitone.
+
+    Playing the test signal into a transmitter keys it at 100 % duty: use a dummy load where
+    possible, stay within your licence and the transmitter's duty cycle; local regulations and
+    licensed practice come first."""
     from ..audio import read
     from ..errors import OutputExistsError
     from ..outputs import atomic_output, check_writable

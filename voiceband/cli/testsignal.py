@@ -38,7 +38,7 @@ def testsignal(
             metavar="KIND",
         ),
     ],
-    out: Annotated[Path, typer.Option("--out", "-o", help="Output file (.wav or .flac).", show_default=False)],
+    out: Annotated[Path, typer.Option("--out", "-o", help="Output file: .wav or .flac (lossless; a test signal must reach the chain as written).", show_default=False)],
     peak_dbfs: Annotated[
         Optional[float],
         typer.Option("--peak-dbfs", help="Sample peak level, dBFS (default -20 for 'tone', -6 otherwise).", show_default=False),
@@ -65,10 +65,14 @@ def testsignal(
     dwell_s: Annotated[float, typer.Option("--dwell-s", help="steps: length of each tone.")] = 0.5,
     gap_s: Annotated[float, typer.Option("--gap-s", help="steps: silence between tones.")] = 0.1,
     markers: Annotated[bool, typer.Option("--markers/--no-markers", help="sweep: add the start/stop marker chirps.")] = True,
-    bits: Annotated[int, typer.Option("--bits", help="Sample format: 16 or 24 (integer PCM) or 32 (float).")] = 24,
+    bits: Annotated[int, typer.Option("--bits", help="Sample format: 16 or 24 (integer PCM) or 32 (float, .wav only).")] = 24,
     force: Annotated[bool, typer.Option("--force", help="Overwrite an existing file.")] = False,
 ) -> None:
-    """Write a test signal for measuring a transmit chain; prints its levels (and the multitone crest factor)."""
+    """Write a test signal for measuring a transmit chain; prints its levels (and the multitone crest factor).
+
+    A steady test signal keys a transmitter at 100 % duty: use a dummy load where possible, stay
+    within your licence and the transmitter's duty cycle; local regulations and licensed practice
+    come first."""
     from ..audio import write
     from ..cautions import TRANSMITTER_CAUTION
     from ..errors import SignalValueError
