@@ -48,7 +48,9 @@ def _progress_printer() -> Any:
             if total < 48000 * 120:  # short files need no progress bar
                 state["p"] = None
                 return
-            p = Progress(transient=True)
+            from .render import console
+
+            p = Progress(console=console(stderr=True), transient=True)  # on stderr: stdout carries the result
             p.start()
             state["p"] = p
             state["t"] = p.add_task("analysing", total=total)
