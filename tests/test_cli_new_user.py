@@ -315,3 +315,33 @@ def test_testsignal_cautions_about_driving_a_transmitter(tmp_path):
 def test_response_cautions_about_driving_a_transmitter(sweep):
     flat = " ".join(_run("response", sweep, sweep).stdout.split())
     assert all(w in flat for w in _CAUTION_WORDS), flat
+
+
+# --------------------------------------------------------------------------- every command's output at 80 and 120 columns
+
+def _clean(res, columns):
+    assert res.exit_code == 0, res.output
+    lines = res.stdout.splitlines()
+    assert lines
+    for ln in lines:
+        assert ln == ln.rstrip(), repr(ln)
+        assert len(ln) <= columns or " " not in ln.strip(), ln  # only an unbreakable name may run over
+    assert not re.search(r"(?<![\w.])-0\.0+(?!\d*[1-9])\b", res.stdout), res.stdout
+    assert "—" not in res.stdout
+    return lines
+
+
+@pytest.mark.parametrize("columns", [80, 120])
+def test_design_and_synthesis_commands_read_cleanly(tmp_path, monkeypatch, columns):
+    from pathlib import Path
+
+    chains = sorted((Path(__file__).parent.parent / "corpus_synthetic" / "chains").glob("*.toml"))
+    assert len(chains) >= 2
+    monkeypatch.chdir(tmp_path)
+    _clean(_run("chain", chains[0], columns=columns), columns)
+    _clean(_run("sweep", "--low", "100:300:100", "--high", "2400:3200:400", "--max-bandwidth", 3000, columns=columns), columns)
+    _clean(_run("testsignal", "steps", "--out", "s.wav", columns=columns), columns)
+    sf.write("talk.wav", _speechlike(np.random.default_rng(7), seconds=4.0), 16000, subtype="PCM_16")
+    lines = _clean(_run("compare", *chains[:2], "--speech", "talk.wav", columns=columns), columns)
+    if columns == 120:  # the comparison is one line per chain when it fits
+        assert any(ln.startswith("Chain") and "Occupied" in ln and "STOI" in ln for ln in lines)
