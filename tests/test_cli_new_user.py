@@ -345,3 +345,18 @@ def test_design_and_synthesis_commands_read_cleanly(tmp_path, monkeypatch, colum
     lines = _clean(_run("compare", *chains[:2], "--speech", "talk.wav", columns=columns), columns)
     if columns == 120:  # the comparison is one line per chain when it fits
         assert any(ln.startswith("Chain") and "Occupied" in ln and "STOI" in ln for ln in lines)
+
+
+def test_messages_are_renamed_to_options_without_touching_prose(capsys):
+    import typer
+
+    from voiceband.cli.common import fail, in_user_words
+
+    names = {"peak_dbfs": "--peak-dbfs", "channel": "--channel"}
+    assert in_user_words("peak_dbfs must be at most 0 dBFS; got 5.", names) == "--peak-dbfs must be at most 0 dBFS; got 5."
+    assert in_user_words("channel 3 does not exist: the file has one channel.", names) == \
+        "--channel 3 does not exist: the file has one channel."
+    assert in_user_words("the --peak-dbfs option", names) == "the --peak-dbfs option"
+    exc = fail("tones_hz must differ, got [np.float64(700.0)]")
+    assert isinstance(exc, typer.Exit) and exc.exit_code == 2
+    assert capsys.readouterr().err == "voiceband: tones_hz must differ, got [700.0].\n"
