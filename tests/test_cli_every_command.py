@@ -151,3 +151,9 @@ def test_every_command_has_a_one_line_summary_in_the_root_help():
     res = runner.invoke(app, ["--help"], env={"COLUMNS": "120"})
     for cmd in COMMANDS:
         assert re.search(rf"^\s+{re.escape(cmd)}\s+\S", res.stdout, re.M), cmd
+
+
+def test_bare_voiceband_shows_the_help_and_fails():
+    res = runner.invoke(app, [], env={"COLUMNS": "80"})
+    assert res.exit_code == 2
+    assert "Usage: voiceband" in res.output and "Traceback" not in res.output

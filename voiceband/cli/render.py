@@ -148,8 +148,8 @@ def print_analysis(r: "AnalysisResult") -> None:
     """Print the summary table and the findings of an analysis."""
     from ..report.summary import analysis_heading, analysis_rows
 
-    print_report(analysis_heading(r), analysis_rows(r),
-                 [Item(f.severity, f.message, f.code) for f in r.findings])
+    # The finding codes stay in the JSON (for programs); people read the sentences.
+    print_report(analysis_heading(r), analysis_rows(r), [Item(f.severity, f.message) for f in r.findings])
 
 
 def grid_lines(headers: Sequence[str], rows: Sequence[Sequence[str]], *, columns: int = 80) -> Optional[list[str]]:

@@ -37,7 +37,7 @@ def synth(
     paths = list(specs) if specs else corpus.default_spec_paths(_DEFAULT_FOLDER)
     if not paths:
         raise ChainFileError(f"no spec files given and none found in '{_DEFAULT_FOLDER}/'.")
-    from .render import print_report
+    from .render import Item, print_report
 
     if verify:
         results = corpus.verify(paths, out / corpus.MANIFEST_NAME)
@@ -53,10 +53,10 @@ def synth(
                 state = "DIFFERENT"
                 bad += 1
             rows.append(("", name, state, f"sha256 {now[:16]}"))
-        print_report(f"Regenerated and compared with {out / corpus.MANIFEST_NAME}", rows)
+        summary = [] if bad else [Item("info", f"All {len(results)} file(s) match the manifest.")]
+        print_report(f"Regenerated and compared with {out / corpus.MANIFEST_NAME}", rows, summary, items_title="Result")
         if bad:
             raise fail(f"{bad} of {len(results)} regenerated file(s) do not match '{out / corpus.MANIFEST_NAME}'", EXIT_BAD_INPUT)
-        typer.echo(f"All {len(results)} file(s) match the manifest.")
         return
 
     written = corpus.generate(paths, out, force=force)
