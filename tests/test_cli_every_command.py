@@ -150,7 +150,9 @@ def test_unknown_command_lists_the_commands():
 def test_every_command_has_a_one_line_summary_in_the_root_help():
     res = runner.invoke(app, ["--help"], env={"COLUMNS": "120"})
     for cmd in COMMANDS:
-        assert re.search(rf"^\s+{re.escape(cmd)}\s+\S", res.stdout, re.M), cmd
+        m = re.search(rf"^\s+{re.escape(cmd)}\s+(\S.*)$", res.stdout, re.M)
+        assert m, cmd
+        assert not m.group(1).endswith("..."), m.group(0)  # a whole summary, not a cut-off sentence
 
 
 def test_bare_voiceband_shows_the_help_and_fails():
