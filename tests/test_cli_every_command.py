@@ -159,3 +159,37 @@ def test_bare_voiceband_shows_the_help_and_fails():
     res = runner.invoke(app, [], env={"COLUMNS": "80"})
     assert res.exit_code == 2
     assert "Usage: voiceband" in res.output and "Traceback" not in res.output
+
+
+def test_a_number_outside_the_parsers_range_names_the_range():
+    # A stand-in command with ranged options, so the check runs whether or not a command of ours has one.
+    from typing import Annotated, Optional
+
+    import typer
+
+    from voiceband.cli.usage import VoicebandGroup
+
+    demo_app = typer.Typer(cls=VoicebandGroup)
+
+    @demo_app.command()
+    def first(workers: Annotated[Optional[int], typer.Option("--workers", min=1, max=1024)] = None,
+              level: Annotated[float, typer.Option("--level", min=0.5)] = 1.0) -> None:
+        """A command."""
+
+    @demo_app.command()
+    def second() -> None:
+        """Another."""
+
+    for args, expected in [(["first", "--workers", "0"], "--workers must be a whole number from 1 to 1024; got '0'"),
+                           (["first", "--level", "0.1"], "--level must be a number of at least 0.5; got '0.1'")]:
+        line = _one_line(runner.invoke(demo_app, args))
+        assert line.startswith(f"voiceband: {expected}"), line
+
+
+@pytest.mark.parametrize("cmd", COMMANDS)
+def test_ranged_options_name_their_range(cmd, tmp_path):
+    for p in _params(cmd):
+        if p.param_type_name == "option" and _annotation(p) in (int, float) and getattr(p, "min", None) is not None:
+            opt = [o for o in p.opts if o.startswith("--")][0]
+            line = _one_line(runner.invoke(app, [cmd, *_required_filler(cmd, tmp_path), opt, str(p.min - 1)]), cmd)
+            assert opt in line and f"{p.min:g}" in line, line

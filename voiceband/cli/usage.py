@@ -86,17 +86,26 @@ def _expected(param: Any) -> str:
     return "a valid value"
 
 
-def _given(exc: BaseException) -> Optional[str]:
-    """The text the user typed for a refused value, when the parser kept it."""
-    cause = exc.__cause__
-    errors = getattr(cause, "errors", None)
+def _bounds(param: Any) -> str:
+    lo, hi = getattr(param, "min", None), getattr(param, "max", None)
+    if lo is not None and hi is not None:
+        return f" from {lo:g} to {hi:g}"
+    if lo is not None:
+        return f" of at least {lo:g}"
+    if hi is not None:
+        return f" of at most {hi:g}"
+    return ""
+
+
+def _parser_error(exc: BaseException) -> Optional[dict]:
+    """The option parser's record of a refused value (what was typed, why), when it kept one."""
+    errors = getattr(exc.__cause__, "errors", None)
     if callable(errors):
         try:
             first = errors()[0]
         except Exception:
             return None
-        if "input" in first:
-            return str(first["input"])
+        return first if isinstance(first, dict) and "input" in first else None
     return None
 
 
@@ -127,11 +136,11 @@ def usage_sentence(exc: Any) -> str:
         return text
     if isinstance(exc, _exc.BadParameter) and param is not None:
         name = _display_name(param)
-        given = _given(exc)
-        text = f"{name} must be {_expected(param)}"
-        if given is not None:
-            text += f"; got '{given}'"
-        return text
+        err = _parser_error(exc)
+        if err is None:  # a check of the parser's own (a path, a count): its words, under the option's name
+            msg = " ".join(str(getattr(exc, "message", "") or exc).split()).rstrip(".")
+            return f"{name}: {msg[:1].lower() + msg[1:]}" if msg else f"{name} has a value that cannot be used"
+        return f"{name} must be {_expected(param)}{_bounds(param)}; got '{err['input']}'"
     if isinstance(exc, _exc.NoSuchOption):
         text = f"no such option '{exc.option_name}'"
         if exc.possibilities:
