@@ -12,8 +12,10 @@ from __future__ import annotations
 
 import re
 import typing
+from typing import Annotated, Optional
 
 import pytest
+import typer
 from typer.main import get_command
 from typer.testing import CliRunner
 
@@ -163,10 +165,6 @@ def test_bare_voiceband_shows_the_help_and_fails():
 
 def test_a_number_outside_the_parsers_range_names_the_range():
     # A stand-in command with ranged options, so the check runs whether or not a command of ours has one.
-    from typing import Annotated, Optional
-
-    import typer
-
     from voiceband.cli.usage import VoicebandGroup
 
     demo_app = typer.Typer(cls=VoicebandGroup)
