@@ -129,11 +129,16 @@ def print_report(
     items: Iterable[Item] = (),
     *,
     items_title: str = "Findings",
+    stderr: bool = False,
 ) -> None:
-    """Print a heading, the rows and the items on stdout, at the terminal's width (the one path for every command)."""
+    """Print a heading, the rows and the items at the terminal's width (the one path for every command).
+
+    On stdout, or on stderr with ``stderr=True`` (a command whose stdout carries data, or a summary
+    beside a progress bar).
+    """
     from rich.text import Text
 
-    con = console()
+    con = console(stderr=stderr)
     items = list(items)
     for text, style in lines_of_report(heading, rows, items, columns=width(con), items_title=items_title):
         t = Text(text, style=style or "")
