@@ -24,6 +24,7 @@ app = typer.Typer(
 # (command name, module, function)
 _COMMANDS = [
     ("analyze", "voiceband.cli.analyze", "analyze"),
+    ("batch", "voiceband.cli.batch", "batch"),
     ("response", "voiceband.cli.response", "response"),
     ("synth", "voiceband.cli.synth", "synth"),
     ("testsignal", "voiceband.cli.testsignal", "testsignal"),
