@@ -44,6 +44,8 @@ class BatchSummary:
     copied: int = 0
     skipped: int = 0
     not_run: int = 0
+    #: Files skipped because already recorded, whose recorded row says failed.
+    failed_earlier: int = 0
     audio_s: float = 0.0
     started: float = field(default_factory=time.monotonic)
     stopped_early: bool = False
@@ -134,12 +136,15 @@ def run_batch(
         if sha is None:
             if output.recorded_paths.get((path, shash), "") is None:
                 summary.skipped += 1  # recorded as unreadable before
+                summary.failed_earlier += 1
                 tick()
             else:
                 record(failed_row(path, None, shash, res.get("error") or "cannot be read.", extra_names), None)
             return
         if output.recorded_paths.get((path, shash)) == sha:
             summary.skipped += 1
+            if output.recorded[(sha, shash)].get("status") != "ok":
+                summary.failed_earlier += 1
             tick()
         elif (sha, shash) in output.recorded:
             copy_for(path, sha)

@@ -84,12 +84,13 @@ def batch(
     if summary.copied:
         parts.append(f"{summary.copied} copies of files already analysed")
     if summary.skipped:
-        parts.append(f"{summary.skipped} already recorded")
+        parts.append(f"{summary.skipped} already recorded"
+                     + (f" ({summary.failed_earlier} of them failed)" if summary.failed_earlier else ""))
     parts.append(f"{summary.failed} failed")
     if summary.not_run:
         parts.append(f"{summary.not_run} not run (--fail-fast)")
     typer.echo(f"{summary.total} files: " + ", ".join(parts) + f"; rows in '{out}'.", err=True)
-    if summary.failed or summary.not_run:
+    if summary.failed or summary.failed_earlier or summary.not_run:
         raise typer.Exit(EXIT_SOME_FAILED)
 
 
