@@ -26,6 +26,10 @@ def default_workers() -> int:
         return max(1, os.cpu_count() or 1)
 
 
+#: Modules the fork server imports before forking workers (warmup runs one short analysis).
+_PRELOAD = ("voiceband.batch.warmup",)
+
+
 class LocalPool:
     """Worker processes on this machine (``concurrent.futures``, forkserver start on Linux).
 
@@ -43,8 +47,13 @@ class LocalPool:
         import multiprocessing as mp
 
         if self._pool is None:
-            method = "forkserver" if "forkserver" in mp.get_all_start_methods() else "spawn"
-            self._pool = ProcessPoolExecutor(max_workers=self.workers, mp_context=mp.get_context(method))
+            if "forkserver" in mp.get_all_start_methods():
+                ctx = mp.get_context("forkserver")
+                # workers fork from a server that has imported the analysis once, so they start at once
+                ctx.set_forkserver_preload(list(_PRELOAD))
+            else:  # pragma: no cover - not on Linux
+                ctx = mp.get_context("spawn")
+            self._pool = ProcessPoolExecutor(max_workers=self.workers, mp_context=ctx)
         return self._pool
 
     def submit(self, fn: Callable, *args: Any):
