@@ -111,7 +111,8 @@ class DaskPool:
                                              dashboard_address=None)
                 self.client = Client(self._cluster)
             else:
-                self.client = Client(address, timeout="10s")
+                _check_reachable(address)
+                self.client = Client(address, timeout="30s")
         except (OSError, TimeoutError) as exc:
             self.close()
             raise ClusterError(f"cannot reach the Dask scheduler at '{address}' ({exc}).") from None
@@ -139,6 +140,20 @@ class DaskPool:
         if self._cluster is not None:
             self._cluster.close()
             self._cluster = None
+
+
+def _check_reachable(address: str) -> None:
+    """Fail at once, not after the client's timeout, when nothing listens at a TCP scheduler address."""
+    import socket
+
+    from distributed.comm import get_address_host_port
+
+    try:
+        host, port = get_address_host_port(address)
+    except (ValueError, TypeError):
+        raise ClusterError(f"'{address}' is not a Dask scheduler address (expected tcp://HOST:PORT, or 'local').") from None
+    with socket.create_connection((host, int(port)), timeout=5.0):
+        pass
 
 
 def open_executor(workers: int, scheduler: str | None):

@@ -69,6 +69,7 @@ def run_batch(
     on_progress: Optional[Callable[[BatchSummary], None]] = None,
     analyse: Callable[..., dict] = analyse_task,
     extra_names: tuple[str, ...] = (),
+    close_executor: bool = True,
 ) -> BatchSummary:
     """Analyse ``files`` on ``executor`` and append one row per file to ``output``.
 
@@ -87,6 +88,8 @@ def run_batch(
         The worker's analysis task (a module-level function; tests pass their own).
     extra_names : tuple of str
         Verdict columns of the profile, empty in failed rows.
+    close_executor : bool
+        Close the executor at the end (tasks still queued are cancelled); the output is always closed.
 
     Returns
     -------
@@ -214,6 +217,10 @@ def run_batch(
     finally:
         summary.not_run = summary.total - summary.done
         summary.stopped_early = summary.not_run > 0
-        executor.close(cancel=True)
+        if close_executor:
+            executor.close(cancel=True)
+        else:
+            for fut in inflight:
+                fut.cancel()
         output.close()
     return summary

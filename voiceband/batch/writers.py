@@ -26,7 +26,7 @@ from typing import Any, Mapping, Optional
 
 from ..errors import OutputExistsError, VoicebandError
 
-__all__ = ["BatchOutput", "open_output", "OUTPUT_SUFFIXES", "PARQUET_REWRITE_S", "journal_path"]
+__all__ = ["BatchOutput", "check_output", "open_output", "OUTPUT_SUFFIXES", "PARQUET_REWRITE_S", "journal_path"]
 
 OUTPUT_SUFFIXES = (".csv", ".jsonl", ".parquet")
 #: Seconds between atomic rewrites of a Parquet output during a run.
@@ -315,6 +315,26 @@ def _parquet_available() -> bool:
     return True
 
 
+def check_output(path: os.PathLike | str, *, force: bool = False, resume: bool = False) -> None:
+    """Raise now, before any work, if :func:`open_output` would refuse ``path`` (same arguments)."""
+    p = Path(path)
+    suffix = p.suffix.lower()
+    if suffix not in OUTPUT_SUFFIXES:
+        raise OutputFormatError(f"--out must end in .csv, .jsonl or .parquet; got '{p.name}'.")
+    if p.is_dir():
+        raise OutputExistsError(f"'{p}' is a folder; give a file name.")
+    if suffix == ".parquet" and not _parquet_available():
+        raise OutputFormatError(
+            "a .parquet output needs pyarrow, which is not installed (pip install 'voiceband[cluster]'); "
+            "use a .csv or .jsonl output instead."
+        )
+    exists = p.exists()
+    if exists and not (force or resume):
+        raise OutputExistsError(f"'{p}' already exists; use --resume to continue it or --force to replace it.")
+    if suffix == ".parquet" and not exists and journal_path(p).exists() and not resume and not force:
+        raise OutputExistsError(f"'{journal_path(p)}' holds rows of an interrupted run; use --resume to continue it or --force to start again.")
+
+
 def open_output(path: os.PathLike | str, columns: tuple[str, ...], types: Mapping[str, str], *,
                 force: bool = False, resume: bool = False) -> BatchOutput:
     """Open a batch output for appending rows.
@@ -341,20 +361,8 @@ def open_output(path: os.PathLike | str, columns: tuple[str, ...], types: Mappin
 
     p = Path(path)
     suffix = p.suffix.lower()
-    if suffix not in OUTPUT_SUFFIXES:
-        raise OutputFormatError(f"--out must end in .csv, .jsonl or .parquet; got '{p.name}'.")
-    if p.is_dir():
-        raise OutputExistsError(f"'{p}' is a folder; give a file name.")
-    if suffix == ".parquet" and not _parquet_available():
-        raise OutputFormatError(
-            "a .parquet output needs pyarrow, which is not installed (pip install 'voiceband[cluster]'); "
-            "use a .csv or .jsonl output instead."
-        )
+    check_output(p, force=force, resume=resume)
     exists = p.exists()
-    if exists and not (force or resume):
-        raise OutputExistsError(f"'{p}' already exists; use --resume to continue it or --force to replace it.")
-    if suffix == ".parquet" and not exists and journal_path(p).exists() and not resume and not force:
-        raise OutputExistsError(f"'{journal_path(p)}' holds rows of an interrupted run; use --resume to continue it or --force to start again.")
     cls = {".csv": _CsvOutput, ".jsonl": _JsonlOutput, ".parquet": _ParquetOutput}[suffix]
     out = cls(p, tuple(columns), types)
     if suffix == ".parquet":

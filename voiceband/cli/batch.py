@@ -43,8 +43,7 @@ def batch(
     from ..batch import BatchSettings, discover_files, run_batch
     from ..batch.executors import default_workers, open_executor
     from ..batch.rows import LEAD_COLUMNS, MEASUREMENT_COLUMNS
-    from ..batch.writers import open_output
-    from ..errors import VoicebandError
+    from ..batch.writers import check_output, open_output
 
     if force and resume:
         raise fail("--force and --resume contradict each other: --force starts the output again, --resume continues it")
@@ -62,11 +61,12 @@ def batch(
     columns = tuple(n for n, _ in LEAD_COLUMNS + MEASUREMENT_COLUMNS + extra_types)
     types = dict(LEAD_COLUMNS + MEASUREMENT_COLUMNS + extra_types)
     n_workers = workers or default_workers()
-    output = open_output(out, columns, types, force=force, resume=resume)
+    check_output(out, force=force, resume=resume)  # refuse before starting workers
+    executor = open_executor(n_workers, scheduler)
     try:
-        executor = open_executor(n_workers, scheduler)
-    except VoicebandError:
-        output.close()
+        output = open_output(out, columns, types, force=force, resume=resume)
+    except BaseException:
+        executor.close(cancel=True)
         raise
     progress = _ProgressBar(len(files)) if sys.stderr.isatty() else None
     try:
