@@ -261,6 +261,7 @@ def write(
     *,
     subtype: str = "PCM_16",
     force: bool = False,
+    make_folders: bool = False,
 ) -> Path:
     """Write samples (frames, or frames × channels; full scale ±1.0) atomically.
 
@@ -281,6 +282,6 @@ def write(
         raise AudioFormatError(f"cannot write '{p.name}': use a .wav, .flac or .ogg file name.")
     if fmt == "OGG":
         subtype = "VORBIS"
-    with atomic_output(p, force=force) as tmp:
+    with atomic_output(p, force=force, make_folders=make_folders) as tmp:
         sf.write(str(tmp), x, int(sample_rate_hz), subtype=subtype, format=fmt)
     return p

@@ -38,9 +38,11 @@ def response(
         if out.exists() and not out.is_dir():
             raise OutputExistsError(f"'{out}' is a file; --out needs a folder.")
         png = out / f"{recording.stem}_response.png"
-        check_writable(png, force=force)  # refuse before the work, not after
+        check_writable(png, force=force, make_folders=True, inputs=(stimulus, recording))  # refuse before the work
+    # A missing folder is made only when it is the --out folder (as the README's example writes the JSON there).
+    json_in_out = out is not None and json_path not in (None, "-") and Path(json_path).resolve().parent == out.resolve()
     if json_path not in (None, "-"):
-        check_writable(Path(json_path), force=force)
+        check_writable(Path(json_path), force=force, make_folders=json_in_out, inputs=(stimulus, recording))
     x, fs_x = read(stimulus)
     y, fs_y = read(recording, channel=channel)
     result = measure_response(x, fs_x, y, fs_y)
@@ -49,11 +51,11 @@ def response(
         from ..report.plots import bode_figure
 
         fig = bode_figure(result)
-        with atomic_output(png, force=force) as tmp:
+        with atomic_output(png, force=force, make_folders=True) as tmp:
             fig.savefig(tmp, format="png")
     if json_path != "-":
         _print_summary(result, png)
-    emit_json(doc, json_path, force=force)
+    emit_json(doc, json_path, force=force, make_folders=json_in_out)
 
 
 def response_document(result: Any, *, stimulus: Path, recording: Path) -> dict[str, Any]:

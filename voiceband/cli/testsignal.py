@@ -70,7 +70,7 @@ def testsignal(
 
     if bits not in _SUBTYPE:
         raise SignalValueError(f"--bits must be 16, 24 or 32, got {bits}.")
-    check_writable(out, force=force)
+    check_writable(out, force=force, make_folders=True)
     k = Kind(kind)
     peak = peak_dbfs if peak_dbfs is not None else (tn.REFERENCE_TONE_PEAK_DBFS if k is Kind.tone else -6.0)
     if k is Kind.steps and duration_s is not None:
@@ -123,7 +123,7 @@ def testsignal(
                          f"{dwell_s:g} s each, {gap_s:g} s gaps; first starts at {st.starts_s[0]:.3f} s")
         samples, fs = sig.samples, sig.sample_rate_hz
         lines.append(f"peak {sig.peak_dbfs:.2f} dBFS, RMS {sig.rms_dbfs:.2f} dBFS")
-    write(out, samples, fs, subtype=_SUBTYPE[bits], force=force)
+    write(out, samples, fs, subtype=_SUBTYPE[bits], force=force, make_folders=True)
     typer.echo(f"{out}: {samples.size / fs:.3f} s at {fs} Hz, {_SUBTYPE[bits]}")
     for line in lines:
         typer.echo("  " + line)

@@ -412,7 +412,7 @@ def _write_one(spec: CorpusSpec, path: Path, *, force: bool) -> ManifestEntry:
 
     x = render(spec)
     subtype = _SUBTYPES[spec.bits]
-    write(path, x, spec.sample_rate_hz, subtype=subtype, force=force)
+    write(path, x, spec.sample_rate_hz, subtype=subtype, force=force, make_folders=True)
     return ManifestEntry(
         file=spec.output,
         spec=Path(spec.path).name,
@@ -482,8 +482,8 @@ def generate(
         raise ChainFileError(f"'{out}' is a file; --out needs a folder.")
     manifest_path = out / MANIFEST_NAME
     for s in specs:
-        check_writable(out / s.output, force=force)
-    check_writable(manifest_path, force=force)
+        check_writable(out / s.output, force=force, make_folders=True)
+    check_writable(manifest_path, force=force, make_folders=True)
     entries = _load_manifest(manifest_path)
     written = []
     for s in specs:
@@ -497,7 +497,7 @@ def generate(
         "generator_version": GENERATOR_VERSION,
         "files": [entries[k] for k in sorted(entries)],
     }
-    write_json(manifest, manifest_path, force=True)
+    write_json(manifest, manifest_path, force=True, make_folders=True)
     return written
 
 
