@@ -315,8 +315,12 @@ def _parquet_available() -> bool:
     return True
 
 
-def check_output(path: os.PathLike | str, *, force: bool = False, resume: bool = False) -> None:
-    """Raise now, before any work, if :func:`open_output` would refuse ``path`` (same arguments)."""
+def check_output(path: os.PathLike | str, *, force: bool = False, resume: bool = False,
+                 inputs: tuple[os.PathLike | str, ...] = ()) -> None:
+    """Raise now, before any work, if :func:`open_output` would refuse ``path`` (same arguments),
+    or if ``path`` is one of the batch's ``inputs`` or cannot be written (see :func:`voiceband.outputs.check_writable`)."""
+    from ..outputs import check_writable
+
     p = Path(path)
     suffix = p.suffix.lower()
     if suffix not in OUTPUT_SUFFIXES:
@@ -333,6 +337,7 @@ def check_output(path: os.PathLike | str, *, force: bool = False, resume: bool =
         raise OutputExistsError(f"'{p}' already exists; use --resume to continue it or --force to replace it.")
     if suffix == ".parquet" and not exists and journal_path(p).exists() and not resume and not force:
         raise OutputExistsError(f"'{journal_path(p)}' holds rows of an interrupted run; use --resume to continue it or --force to start again.")
+    check_writable(p, force=True, inputs=inputs)  # folder, permission, name length, not an input
 
 
 def open_output(path: os.PathLike | str, columns: tuple[str, ...], types: Mapping[str, str], *,

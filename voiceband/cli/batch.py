@@ -61,7 +61,7 @@ def batch(
     columns = tuple(n for n, _ in LEAD_COLUMNS + MEASUREMENT_COLUMNS + extra_types)
     types = dict(LEAD_COLUMNS + MEASUREMENT_COLUMNS + extra_types)
     n_workers = workers or default_workers()
-    check_output(out, force=force, resume=resume)  # refuse before starting workers
+    check_output(out, force=force, resume=resume, inputs=tuple(files))  # refuse before starting workers
     executor = open_executor(n_workers, scheduler)
     try:
         output = open_output(out, columns, types, force=force, resume=resume)
