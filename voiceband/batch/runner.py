@@ -195,9 +195,7 @@ def run_batch(
                 kind, path, sha = inflight.pop(fut)
                 try:
                     res = fut.result()
-                except BaseException as exc:  # infrastructure failure: the task itself never raises
-                    if isinstance(exc, KeyboardInterrupt):
-                        raise
+                except Exception as exc:  # infrastructure failure: the task itself never raises
                     if executor.worker_lost(exc):
                         if isolated:
                             res = {"status": "failed", "error": WORKER_LOST_SENTENCE} if kind == "analyse" \

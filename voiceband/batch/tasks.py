@@ -57,9 +57,7 @@ def analyse_task(path: str, channel: str, profile: Optional[str] = None) -> dict
         doc = to_jsonable(analyze_file(path, channel=channel))
         extra = profile_columns(profile, doc) if profile else {}
         return {"status": "ok", "analysis": doc, "extra": extra}
-    except BaseException as exc:  # a worker reports every failure as data; KeyboardInterrupt stops it too
-        if isinstance(exc, KeyboardInterrupt):
-            raise
+    except Exception as exc:  # a worker reports every failure as data (Ctrl-C and signals still stop it)
         return {"status": "failed", "error": error_sentence(exc)}
 
 
