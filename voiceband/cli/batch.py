@@ -8,7 +8,7 @@ from typing import Annotated, Any, Optional
 
 import typer
 
-from .common import fail, guarded
+from .common import Terminated, fail, guarded
 
 #: Exit status when the batch ran but at least one file failed (or files were left by --fail-fast).
 EXIT_SOME_FAILED = 1
@@ -73,10 +73,11 @@ def batch(
         summary = run_batch(files, settings, output, executor, fail_fast=fail_fast,
                             on_progress=progress.update if progress else None,
                             extra_names=tuple(n for n, _ in extra_types))
-    except KeyboardInterrupt:
+    except (KeyboardInterrupt, Terminated) as exc:
         if progress:
             progress.stop()
-        raise fail(f"interrupted; the finished rows are in '{out}'; run the same command with --resume to finish", 130) from None
+        how, code = ("interrupted", 130) if isinstance(exc, KeyboardInterrupt) else (f"stopped by signal {exc.signal_name}", 128 + exc.signum)
+        raise fail(f"{how}; the finished rows are in '{out}'; run the same command with --resume to finish", code) from None
     finally:
         if progress:
             progress.stop()
