@@ -124,3 +124,13 @@ def test_parquet_journal_survives_a_kill_and_resume_merges_it(tmp_path):
     assert t.column("path").to_pylist() == ["f1.wav", "f2.wav", "f3.wav"]
     assert t.column("input.duration_s").to_pylist() == [1.0, 2.0, 3.0]
     assert not journal_path(p).exists()
+
+
+def test_batch_command_and_package_load_no_dask_or_pyarrow():
+    import subprocess
+    import sys
+
+    code = ("import sys, voiceband.batch, voiceband.cli.main; "
+            "print(','.join(m for m in ('dask', 'distributed', 'pyarrow') if m in sys.modules))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()
+    assert out == ""

@@ -76,6 +76,8 @@ _LAZY = {
     "mains_hum": ("voiceband.synth", "mains_hum"),
     "static_crashes": ("voiceband.synth", "static_crashes"),
     "measure_response": ("voiceband.response", "measure_response"),
+    "run_batch": ("voiceband.batch", "run_batch"),
+    "BatchSettings": ("voiceband.batch", "BatchSettings"),
 }
 
 __all__ = [
