@@ -134,3 +134,21 @@ def test_batch_command_and_package_load_no_dask_or_pyarrow():
             "print(','.join(m for m in ('dask', 'distributed', 'pyarrow') if m in sys.modules))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.strip()
     assert out == ""
+
+
+def test_csv_resume_reads_back_a_path_with_quotes_and_a_newline(tmp_path):
+    p = tmp_path / "t.csv"
+    out = open_output(p, COLUMNS, column_types())
+    odd = ok_row('we"ird\nname.wav', "d" * 64, "s" * 16, {"input": {"duration_s": 4.0}, "findings": []})
+    out.write(odd)
+    out.write(_good_row(5, "e"))
+    out.close()
+    out = open_output(p, COLUMNS, column_types(), resume=True)
+    assert ('we"ird\nname.wav', "s" * 16) in out.recorded_paths and len(out.recorded_paths) == 2
+    row = out.copy_row(("d" * 64, "s" * 16), "plain.wav")
+    out.close()
+    assert row["input.duration_s"] == "4.0" and row["sha256"] == "d" * 64
+    import csv
+
+    with open(p, newline="") as f:
+        assert [r["path"] for r in csv.DictReader(f)] == ['we"ird\nname.wav', "f5.wav", "plain.wav"]

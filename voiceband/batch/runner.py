@@ -146,7 +146,7 @@ def run_batch(
             return
         if output.recorded_paths.get((path, shash)) == sha:
             summary.skipped += 1
-            if output.recorded[(sha, shash)].get("status") != "ok":
+            if output.recorded[(sha, shash)][0] != "ok":
                 summary.failed_earlier += 1
             tick()
         elif (sha, shash) in output.recorded:

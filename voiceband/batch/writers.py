@@ -82,42 +82,27 @@ def _json_safe(v: Any) -> Any:
 class BatchOutput:
     """An open batch output.
 
-    ``recorded`` maps (sha256, settings) of each recorded row to that row (the first one);
-    ``recorded_paths`` maps (path, settings) of each recorded row to its sha256 (None when
-    the file could not be read).
+    ``recorded`` maps (sha256, settings) of the first row recorded for each content to
+    (status, where the row is); ``recorded_paths`` maps (path, settings) of every recorded row
+    to its sha256 (None when the file could not be read).  Rows themselves stay on disk (a
+    few hundred bytes of bookkeeping per file, so hundreds of thousands of files fit in memory);
+    :meth:`copy_row` reads one back when a copy of that content turns up.
     """
 
     def __init__(self, path: Path, columns: tuple[str, ...], types: Mapping[str, str]):
         self.path = path
         self.columns = columns
         self.types = dict(types)
-        self.recorded: dict[tuple[str, str], dict[str, Any]] = {}
+        self.recorded: dict[tuple[str, str], tuple[str, Any]] = {}
         self.recorded_paths: dict[tuple[str, str], Optional[str]] = {}
         self.rows_written = 0
-        self._where = {}
 
-    # -- shared ---------------------------------------------------------------
-    def _remember(self, row: Mapping[str, Any], where: Any = None) -> None:
+    def _remember(self, row: Mapping[str, Any], where: Any) -> None:
         settings = str(row.get("settings") or "")
         sha = row.get("sha256") or None
         self.recorded_paths[(str(row.get("path")), settings)] = sha
         if sha and (sha, settings) not in self.recorded:
-            self.recorded[(sha, settings)] = {c: row.get(c) for c in self.columns}
-            if where is not None:
-                self._where[(sha, settings)] = where
-
-    def _analysis_at(self, where: Any) -> Optional[dict]:
-        return None
-
-    def copy_row(self, key: tuple[str, str], path: str) -> dict[str, Any]:
-        """Record the row of content ``key`` (sha256, settings) again for a copy of that file at ``path``."""
-        row = dict(self.recorded[key])
-        row["path"] = path
-        analysis = self._analysis_at(self._where.get(key)) if key in self._where else None
-        if isinstance(analysis, dict) and isinstance(analysis.get("input"), dict):
-            analysis["input"]["path"] = path
-        self.write(row, analysis)
-        return row
+            self.recorded[(sha, settings)] = (str(row.get("status")), where)
 
     def _check_columns(self, found: list[str]) -> None:
         if list(found) != list(self.columns):
@@ -126,109 +111,145 @@ class BatchOutput:
                 f"--profile made it); resume with the same settings or write to a new file."
             )
 
+    def copy_row(self, key: tuple[str, str], path: str) -> dict[str, Any]:
+        """Record the row of content ``key`` (sha256, settings) again for a copy of that file at ``path``."""
+        row, analysis = self._read_back(self.recorded[key][1])
+        row["path"] = path
+        if isinstance(analysis, dict) and isinstance(analysis.get("input"), dict):
+            analysis["input"]["path"] = path
+        self.write(row, analysis)
+        return row
+
     def write(self, row: Mapping[str, Any], analysis: Optional[Mapping[str, Any]] = None) -> None:
         """Append one row (and, for JSON Lines, the full analysis) and push it to disk."""
-        self._write(row, analysis)
-        self._remember(row)
+        where = self._append(row, analysis)
+        self._remember(row, where)
         self.rows_written += 1
 
-    def _write(self, row: Mapping[str, Any], analysis: Optional[Mapping[str, Any]]) -> None:  # pragma: no cover
+    # format-specific: append a row and say where it is; read a row (and its analysis) back
+    def _append(self, row: Mapping[str, Any], analysis: Optional[Mapping[str, Any]]) -> Any:  # pragma: no cover
+        raise NotImplementedError
+
+    def _read_back(self, where: Any) -> tuple[dict[str, Any], Optional[dict]]:  # pragma: no cover
         raise NotImplementedError
 
     def close(self) -> None:
         """Finish the output (a Parquet output is written here); safe to call twice."""
+        f = getattr(self, "_f", None)
+        if f is not None and not f.closed:
+            f.close()
+
+
+def _lines_with_offsets(path: Path):
+    """(byte offset, complete line) of a text file; a CSV record whose quoted field holds a newline is one line."""
+    with open(path, "rb") as f:
+        offset = f.tell()
+        pending = b""
+        for raw in iter(f.readline, b""):
+            pending += raw
+            if pending.count(b'"') % 2:  # inside a quoted field: the record goes on
+                continue
+            yield offset, pending
+            offset += len(pending)
+            pending = b""
 
 
 class _CsvOutput(BatchOutput):
     def open(self, *, exists: bool) -> None:
         if exists:
             _cut_partial_last_line(self.path)
-            with open(self.path, newline="", encoding="utf-8") as f:
-                reader = csv.reader(f)
-                header = next(reader, None)
-                if header is None:
-                    raise OutputFormatError(f"'{self.path}' is empty, not a batch table; write to a new file.")
-                self._check_columns(header)
-                for rec in reader:
-                    if len(rec) != len(self.columns):
-                        raise OutputFormatError(
-                            f"'{self.path}' line {reader.line_num} has {len(rec)} fields instead of "
-                            f"{len(self.columns)}; it is not a batch table this version can resume."
-                        )
-                    self._remember({c: (v if v != "" else None) for c, v in zip(self.columns, rec)})
-        self._f = open(self.path, "a", newline="", encoding="utf-8")
-        self._w = csv.writer(self._f, lineterminator="\n")
+            header_seen = False
+            for n, (offset, raw) in enumerate(_lines_with_offsets(self.path), 1):
+                rec = next(csv.reader([raw.decode("utf-8")]), [])
+                if not header_seen:
+                    self._check_columns(rec)
+                    header_seen = True
+                    continue
+                if len(rec) != len(self.columns):
+                    raise OutputFormatError(
+                        f"'{self.path}' line {n} has {len(rec)} fields instead of {len(self.columns)}; "
+                        f"it is not a batch table this version can resume."
+                    )
+                self._remember({c: (v if v != "" else None) for c, v in zip(self.columns, rec)}, offset)
+            if not header_seen:
+                raise OutputFormatError(f"'{self.path}' is empty, not a batch table; write to a new file.")
+        self._f = open(self.path, "ab")
 
-    def _cell(self, v: Any) -> str:
+    @staticmethod
+    def _cell(v: Any) -> str:
         if v is None:
             return ""
         if isinstance(v, float):
             return repr(v) if math.isfinite(v) else ""
         return str(v)
 
-    def _write(self, row, analysis):
-        self._w.writerow([self._cell(row.get(c)) for c in self.columns])
+    def _append(self, row, analysis) -> int:
+        buf = io.StringIO()
+        csv.writer(buf, lineterminator="\n").writerow([self._cell(row.get(c)) for c in self.columns])
+        where = self._f.tell()
+        self._f.write(buf.getvalue().encode("utf-8"))
         _sync(self._f)
+        return where
 
-    def close(self) -> None:
-        if not self._f.closed:
-            self._f.close()
+    def _read_back(self, where: int):
+        with open(self.path, "rb") as f:
+            f.seek(where)
+            raw = f.readline()
+            while raw.count(b'"') % 2:
+                more = f.readline()
+                if not more:
+                    break
+                raw += more
+        rec = next(csv.reader([raw.decode("utf-8")]))
+        return {c: (v if v != "" else None) for c, v in zip(self.columns, rec)}, None
 
 
 class _JsonlOutput(BatchOutput):
     def open(self, *, exists: bool) -> None:
         if exists:
             _cut_partial_last_line(self.path)
-            self._read_lines(self.path)
-        self._f = open(self.path, "a", encoding="utf-8")
-
-    def _read_lines(self, path: Path) -> None:
-        with open(path, "rb") as f:
-            n = 0
-            while True:
-                offset = f.tell()
-                raw = f.readline()
-                if not raw:
-                    break
-                n += 1
+            for n, (offset, raw) in enumerate(_lines_with_offsets_plain(self.path), 1):
                 if not raw.strip():
                     continue
-                try:
-                    rec = json.loads(raw)
-                except ValueError:
-                    raise OutputFormatError(f"'{path}' line {n} is not JSON; it is not a batch output this version can resume.") from None
-                if not isinstance(rec, dict):
-                    raise OutputFormatError(f"'{path}' line {n} is not a JSON object; it is not a batch output this version can resume.")
+                rec = _parse_line(self.path, n, raw)
                 self._check_columns([k for k in rec if k != "analysis"])
                 self._remember(rec, offset)
+        self._f = open(self.path, "ab")
 
-    def write(self, row: Mapping[str, Any], analysis: Optional[Mapping[str, Any]] = None) -> None:
-        self._f.flush()
-        offset = self._f.tell()
-        self._write(row, analysis)
-        self._remember(row, offset)
-        self.rows_written += 1
-
-    def _analysis_at(self, where: Any) -> Optional[dict]:
-        with open(self.path, "rb") as f:
-            f.seek(int(where))
-            return json.loads(f.readline()).get("analysis")
-
-    def _line(self, row, analysis) -> str:
+    def _append(self, row, analysis) -> int:
         rec = {c: _json_safe(row.get(c)) for c in self.columns}
         rec["analysis"] = analysis
-        return json.dumps(rec, allow_nan=False, separators=(",", ":")) + "\n"
-
-    def _write(self, row, analysis):
-        self._f.write(self._line(row, analysis))
+        where = self._f.tell()
+        self._f.write((json.dumps(rec, allow_nan=False, separators=(",", ":")) + "\n").encode("utf-8"))
         _sync(self._f)
+        return where
 
-    def close(self) -> None:
-        if not self._f.closed:
-            self._f.close()
+    def _read_back(self, where: int):
+        with open(self.path, "rb") as f:
+            f.seek(where)
+            rec = json.loads(f.readline())
+        return {c: rec.get(c) for c in self.columns}, rec.get("analysis")
 
 
-class _ParquetOutput(_JsonlOutput):
+def _lines_with_offsets_plain(path: Path):
+    with open(path, "rb") as f:
+        offset = 0
+        for raw in iter(f.readline, b""):
+            yield offset, raw
+            offset += len(raw)
+
+
+def _parse_line(path: Path, n: int, raw: bytes) -> dict:
+    try:
+        rec = json.loads(raw)
+    except ValueError:
+        raise OutputFormatError(f"'{path}' line {n} is not JSON; it is not a batch output this version can resume.") from None
+    if not isinstance(rec, dict):
+        raise OutputFormatError(f"'{path}' line {n} is not a JSON object; it is not a batch output this version can resume.")
+    return rec
+
+
+class _ParquetOutput(BatchOutput):
     def open(self, *, exists: bool) -> None:
         import pyarrow.parquet as pq
 
@@ -240,43 +261,38 @@ class _ParquetOutput(_JsonlOutput):
                 raise OutputFormatError(f"'{self.path}' is not a Parquet file this version can read; write to a new file.") from None
             self._check_columns(table.column_names)
             for rec in table.to_pylist():
-                self._remember(rec)
-                self._rows.append(tuple(rec.get(c) for c in self.columns))
+                self._keep(rec)
         j = journal_path(self.path)
         if exists and j.exists():
             _cut_partial_last_line(j)
-            self._journal_rows(j)
-        self._f = open(j, "a" if exists else "w", encoding="utf-8")
-        self._last_rewrite = time.monotonic()
-        self._rewrite()  # a valid Parquet file from the start
-
-    def _journal_rows(self, j: Path) -> None:
-        with open(j, encoding="utf-8") as f:
-            for n, line in enumerate(f, 1):
-                if not line.strip():
+            for n, (_, raw) in enumerate(_lines_with_offsets_plain(j), 1):
+                if not raw.strip():
                     continue
-                try:
-                    rec = json.loads(line)
-                except ValueError:
-                    raise OutputFormatError(f"'{j}' line {n} is not JSON; delete it only if you accept analysing those files again.") from None
-                key = (str(rec.get("path")), str(rec.get("settings") or ""))
-                if key in self.recorded_paths:
-                    continue  # already in the Parquet file (killed between a rewrite and the journal's removal)
-                self._remember(rec)
-                self._rows.append(tuple(rec.get(c) for c in self.columns))
+                rec = _parse_line(j, n, raw)
+                if (str(rec.get("path")), str(rec.get("settings") or "")) in self.recorded_paths:
+                    continue  # already in the Parquet file (stopped between a rewrite and the journal's removal)
+                self._keep(rec)
+        self._f = open(j, "ab" if exists else "wb")
+        self._rewrite()  # a valid Parquet file from the start
+        self._last_rewrite = time.monotonic()
 
-    def _line(self, row, analysis) -> str:
-        rec = {c: _json_safe(row.get(c)) for c in self.columns}
-        return json.dumps(rec, allow_nan=False, separators=(",", ":")) + "\n"
+    def _keep(self, rec: Mapping[str, Any]) -> int:
+        self._rows.append(tuple(_json_safe(rec.get(c)) for c in self.columns))
+        where = len(self._rows) - 1
+        self._remember(rec, where)
+        return where
 
     def write(self, row: Mapping[str, Any], analysis: Optional[Mapping[str, Any]] = None) -> None:
-        BatchOutput.write(self, row, None)
-
-    def _write(self, row, analysis):
-        _JsonlOutput._write(self, row, None)
-        self._rows.append(tuple(_json_safe(row.get(c)) for c in self.columns))
+        rec = {c: _json_safe(row.get(c)) for c in self.columns}
+        self._f.write((json.dumps(rec, allow_nan=False, separators=(",", ":")) + "\n").encode("utf-8"))
+        _sync(self._f)
+        self._keep(rec)
+        self.rows_written += 1
         if time.monotonic() - self._last_rewrite >= PARQUET_REWRITE_S:
             self._rewrite()
+
+    def _read_back(self, where: int):
+        return dict(zip(self.columns, self._rows[where])), None
 
     def _rewrite(self) -> None:
         import pyarrow as pa
@@ -285,16 +301,14 @@ class _ParquetOutput(_JsonlOutput):
         from ..outputs import atomic_output
 
         kinds = {"string": pa.string(), "int": pa.int64(), "float": pa.float64()}
-        schema = pa.schema([(c, kinds[self.types.get(c, "string")]) for c in self.columns])
-        cols = list(zip(*self._rows)) if self._rows else [()] * len(self.columns)
+        convert = {"string": lambda v: None if v is None else str(v),
+                   "int": lambda v: None if v is None else int(v),
+                   "float": lambda v: None if v is None else float(v)}
         arrays = []
-        for c, values in zip(self.columns, cols):
+        for i, c in enumerate(self.columns):
             kind = self.types.get(c, "string")
-            conv = {"string": lambda v: None if v is None else str(v),
-                    "int": lambda v: None if v is None else int(v),
-                    "float": lambda v: None if v is None else float(v)}[kind]
-            arrays.append(pa.array([conv(v) for v in values], type=kinds[kind]))
-        table = pa.Table.from_arrays(arrays, schema=schema)
+            arrays.append(pa.array([convert[kind](r[i]) for r in self._rows], type=kinds[kind]))
+        table = pa.Table.from_arrays(arrays, schema=pa.schema([(c, kinds[self.types.get(c, "string")]) for c in self.columns]))
         with atomic_output(self.path, force=True) as tmp:
             pq.write_table(table, str(tmp))
         self._last_rewrite = time.monotonic()
