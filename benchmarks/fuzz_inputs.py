@@ -99,11 +99,13 @@ def child(start: int, stop: int, seed: int, workdir: Path) -> None:
         rng = np.random.default_rng([seed, i])
         d = workdir / f"c{i}"
         d.mkdir(exist_ok=True)
+        print(json.dumps({"i": i, "stage": "write"}), flush=True)  # a death now is the generator's, not voiceband's
         while True:  # redraw until libsndfile can write the case
             case = random_case(rng)
             path = write_case(d / "input", case)
             if path is not None:
                 break
+        print(json.dumps({"i": i, "stage": "run"}), flush=True)
         out = {"i": i, "kind": case["kind"], "format": case.get("format", "bytes")}
         with _Fd2Capture(d) as cap:
             res = runner.invoke(app, ["analyze", str(path), "--json", "-"])
@@ -130,12 +132,16 @@ def run_chunk(start: int, stop: int, seed: int, workdir: Path) -> list[dict]:
     while start < stop:
         proc = subprocess.run([sys.executable, __file__, "--child", str(start), str(stop), "--seed", str(seed),
                                "--workdir", str(workdir)], capture_output=True, text=True)
-        got = [json.loads(line) for line in proc.stdout.splitlines() if line.startswith("{")]
+        lines = [json.loads(line) for line in proc.stdout.splitlines() if line.startswith("{")]
+        got = [r for r in lines if "outcome" in r]
         results += got
         start = (got[-1]["i"] + 1) if got else start
         if proc.returncode != 0 and start < stop:
-            results.append({"i": start, "kind": "?", "format": "?", "outcome": "crash",
-                            "detail": f"process died (exit {proc.returncode}): {proc.stderr.strip()[-200:]}"})
+            stage = lines[-1].get("stage") if lines else "write"
+            outcome = "generator_died" if stage == "write" else "crash"
+            results.append({"i": start, "kind": "?", "format": "?", "outcome": outcome,
+                            "detail": f"process died (exit {proc.returncode}) while {'writing' if stage == 'write' else 'analysing'} "
+                                      f"the input: {proc.stderr.strip()[-200:]}"})
             start += 1
         elif proc.returncode == 0:
             break
@@ -221,7 +227,9 @@ def main() -> None:
     for r in results:
         by_kind[r["kind"]][r["outcome"]] += 1
     print(f"fuzz_inputs: {len(results)} generated inputs, seed {args.seed}, {elapsed:.0f} s")
-    print(f"  analyze : {counts['result']} results, {counts['error']} clean errors, {counts['crash']} crashes")
+    print(f"  analyze : {counts['result']} results, {counts['error']} clean errors, {counts['crash']} crashes"
+          + (f" ({counts['generator_died']} inputs lost because the generator's encoder died writing them)"
+             if counts["generator_died"] else ""))
     print(f"  response: {resp['result']} results, {resp['error']} clean errors, {resp['crash']} crashes "
           f"(every 25th input as the recording)")
     print(f"  two hours of silence, streamed: {silence['outcome']} ({silence['detail']})")
