@@ -41,7 +41,7 @@ def profile_column_types(name: str) -> tuple[tuple[str, str], ...]:
     return ()
 
 
-def verdict_columns(name: str, doc: dict) -> dict[str, Any]:
+def verdict_columns(name: str, result: Any) -> dict[str, Any]:
     """The verdict columns of one analysed file under profile ``name``."""
     check_profile(name)
     return {}

@@ -54,15 +54,16 @@ def analyse_task(path: str, channel: str, profile: Optional[str] = None) -> dict
         from ..analysis import analyze_file
         from ..report.serialize import to_jsonable
 
-        doc = to_jsonable(analyze_file(path, channel=channel))
-        extra = profile_columns(profile, doc) if profile else {}
+        result = analyze_file(path, channel=channel)
+        doc = to_jsonable(result)
+        extra = profile_columns(profile, result) if profile else {}
         return {"status": "ok", "analysis": doc, "extra": extra}
     except Exception as exc:  # a worker reports every failure as data (Ctrl-C and signals still stop it)
         return {"status": "failed", "error": error_sentence(exc)}
 
 
-def profile_columns(profile: str, doc: dict) -> dict[str, Any]:
-    """Verdict columns of a service profile for one analysis (see :mod:`voiceband.batch.profile`)."""
+def profile_columns(profile: str, result: Any) -> dict[str, Any]:
+    """Verdict columns of a service profile for one analysis result (see :mod:`voiceband.batch.profile`)."""
     from .profile import verdict_columns
 
-    return verdict_columns(profile, doc)
+    return verdict_columns(profile, result)
