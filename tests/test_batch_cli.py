@@ -147,7 +147,8 @@ def test_fail_fast_stops_and_says_so(folder, tmp_path):
     res = _run(root / "random_bytes.wav", *files["good"][:3], "--out", out, "--workers", 1, "--fail-fast")
     assert res.exit_code == 1
     rows = _csv_rows(out)
-    assert rows[0]["status"] == "failed" and len(rows) < 4
+    assert len(rows) < 4 and {"failed"} <= {r["status"] for r in rows}
+    assert [r["path"] for r in rows if r["status"] == "failed"] == [str(root / "random_bytes.wav")]
     assert "not run (--fail-fast)" in res.output
 
 
