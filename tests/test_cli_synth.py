@@ -134,7 +134,7 @@ def test_testsignal_two_tone_frequencies_by_fft(tmp_path):
     assert res.exit_code == 0, res.output
     x, fs = sf.read(out)
     spec = np.abs(np.fft.rfft(x))  # 1 s: bin k is k Hz
-    # 47 CFR 2.1049 SSB test pair, 400 + 1800 Hz (trade-facts §1.5).
+    # 47 CFR 2.1049 SSB test pair, 400 + 1800 Hz (from memory).
     assert sorted(np.argsort(spec)[-2:].tolist()) == [400, 1800]
 
 

@@ -97,7 +97,7 @@ def test_band_estimator_on_white_noise():
 
 def test_ansi_targets_match_reference_notes():
     # ANSI S3.5-1997 Table 3: 1000 Hz normal U = 25.01 dB/Hz, Δ = 23.65 dB; shout 8000 Hz
-    # U = 20.72, Δ = 32.65 (reference notes sii-ansi-s3.5-1997.md §2).
+    # U = 20.72, Δ = 32.65 (ANSI S3.5-1997 Table 3).
     assert ansi_speech_band_levels_db("normal")[8] == pytest.approx(25.01 + 23.65)
     assert ansi_speech_band_levels_db("shout")[17] == pytest.approx(20.72 + 32.65)
 

@@ -126,11 +126,11 @@ def test_no_f0_when_nothing_is_voiced(rng):
 def test_voice_bad_input():
     with pytest.raises(MeasurementError, match="fmin_hz < fmax_hz"):
         yin_f0(np.zeros(8000), 8000, fmin_hz=300.0, fmax_hz=100.0)
-    with pytest.raises(SignalValueError, match="one-dimensional"):
+    with pytest.raises(SignalValueError, match="one channel"):
         yin_f0(np.zeros((10, 10)), 8000)
     with pytest.raises(MeasurementError, match="capacity_s >= chunk_s"):
         VoiceReservoir(8000, capacity_s=0.1, chunk_s=0.5)
-    with pytest.raises(SignalValueError, match="one-dimensional"):
+    with pytest.raises(SignalValueError, match="one channel"):
         VoiceReservoir(8000).update(np.zeros((3, 3)))
 
 

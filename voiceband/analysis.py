@@ -238,8 +238,11 @@ def _combine(info: InputInfo, pipe: _Pipeline) -> AnalysisResult:
         from .intelligibility import recording_intelligibility
 
         try:
+            from .bands import BandLevels, bands_for_nominal
+
+            b = bands_for_nominal(s.bands_hz)
             intel = recording_intelligibility(
-                s.speech_band_db, s.noise_band_db, s.bands_hz
+                BandLevels(b, s.speech_band_db), None if s.noise_band_db is None else BandLevels(b, s.noise_band_db)
             )
         except ValueError as exc:
             extra.append(Finding("sii_not_measurable", "info", f"The SII could not be computed: {exc}"))

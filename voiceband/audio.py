@@ -15,6 +15,7 @@ from typing import Iterator, Union
 
 import numpy as np
 
+from . import validate
 from .errors import AudioFormatError, AudioInputError, SignalValueError
 from .outputs import atomic_output
 
@@ -29,9 +30,9 @@ __all__ = [
     "Channel",
 ]
 
-#: Lowest and highest sample rates voiceband accepts (Hz).
-MIN_SAMPLE_RATE_HZ = 8000
-MAX_SAMPLE_RATE_HZ = 192000
+#: Lowest and highest sample rates voiceband accepts (Hz): the one range of :mod:`voiceband.validate`.
+MIN_SAMPLE_RATE_HZ = validate.MIN_SAMPLE_RATE_HZ
+MAX_SAMPLE_RATE_HZ = validate.MAX_SAMPLE_RATE_HZ
 #: Default streaming block length in frames (about 5.5 s at 48 kHz).
 DEFAULT_BLOCK_FRAMES = 1 << 18
 
@@ -95,11 +96,13 @@ def info(path: Union[str, os.PathLike]) -> AudioInfo:
         i = _Header(int(f.samplerate), int(f.channels), int(f.frames), str(f.format), str(f.subtype))
     if i.frames <= 0:
         raise AudioFormatError(f"'{p}' contains no audio samples.")
-    if not MIN_SAMPLE_RATE_HZ <= i.samplerate <= MAX_SAMPLE_RATE_HZ:
+    try:
+        validate.sample_rate_hz(i.samplerate)
+    except SignalValueError:
         raise AudioFormatError(
             f"'{p}' has a sample rate of {i.samplerate} Hz; voiceband needs "
             f"{MIN_SAMPLE_RATE_HZ}–{MAX_SAMPLE_RATE_HZ} Hz."
-        )
+        ) from None
     if i.channels < 1:
         raise AudioFormatError(f"'{p}' reports {i.channels} channels.")
     return AudioInfo(
@@ -271,10 +274,10 @@ def write(
     x = np.asarray(samples, dtype=np.float64)
     if not np.all(np.isfinite(x)):
         raise SignalValueError("samples to write contain NaN or Inf.")
-    if not MIN_SAMPLE_RATE_HZ <= int(sample_rate_hz) <= MAX_SAMPLE_RATE_HZ:
-        raise AudioFormatError(
-            f"sample_rate_hz must be {MIN_SAMPLE_RATE_HZ}–{MAX_SAMPLE_RATE_HZ} Hz, got {sample_rate_hz}."
-        )
+    try:
+        validate.sample_rate_hz(sample_rate_hz)
+    except SignalValueError as exc:
+        raise AudioFormatError(str(exc)) from None
     sf = _sf()
     p = Path(path)
     fmt = {".wav": "WAV", ".flac": "FLAC", ".ogg": "OGG"}.get(p.suffix.lower())

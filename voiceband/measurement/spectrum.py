@@ -28,10 +28,8 @@ talker-to-talker spread).
 
 One-third-octave bands
 ----------------------
-IEC 61260-1:2014 base-10 bands: exact mid-band frequencies ``1000 * 10**(x/10)`` Hz, band
-edges at ``10**(+/-1/20)`` times the mid-band, labelled by the nominal centres 25, 31.5,
-40 ... 20000 Hz (IEC 61260-1 Annex E / ISO 266).  Only bands whose upper edge lies below
-the Nyquist frequency are used.  A band *level* is the power in the band (dBFS),
+IEC 61260-1:2014 base-10 bands from :mod:`voiceband.bands` (25 Hz ... 20 kHz); only bands
+whose upper edge lies below the Nyquist frequency are used.  A band *level* is the power in the band (dBFS),
 integrated from the PSD with fractional bins (:func:`voiceband.measurement.bandwidth.cumulative_power`).
 
 Tilt
@@ -54,26 +52,22 @@ from .activity import (
     LEVEL_BIN_COUNT,
     ActivityAccumulator,
     ActivityResult,
-    HumAccumulator,
-    HumResult,
-    _check_rate,
     classify_level_bins,
 )
+from .hum import HumAccumulator, HumResult
 from .bandwidth import (
     OccupiedBandwidth,
     PassbandEdges,
-    _exact_centre_hz,
     cumulative_power,
     occupied_bandwidth,
     passband_edges,
 )
+from .. import validate
+from ..bands import BandLevels, third_octave_bands
 from ..errors import MeasurementError
 from .voice import VoiceReservoir, VoiceResult
 
 __all__ = [
-    "NOMINAL_THIRD_OCTAVE_HZ",
-    "ThirdOctaveBands",
-    "third_octave_bands",
     "band_powers",
     "third_octave_levels_db",
     "tilt_db_per_octave",
@@ -84,15 +78,6 @@ __all__ = [
     "analyze_spectrum",
 ]
 
-#: Nominal one-third-octave mid-band frequencies 25 Hz ... 20 kHz (IEC 61260-1, ISO 266),
-#: for band numbers x = -16 ... 13 (exact mid-band 1000 * 10**(x/10) Hz).
-NOMINAL_THIRD_OCTAVE_HZ = (
-    25.0, 31.5, 40.0, 50.0, 63.0, 80.0, 100.0, 125.0, 160.0, 200.0, 250.0, 315.0, 400.0, 500.0,
-    630.0, 800.0, 1000.0, 1250.0, 1600.0, 2000.0, 2500.0, 3150.0, 4000.0, 5000.0, 6300.0,
-    8000.0, 10000.0, 12500.0, 16000.0, 20000.0,
-)
-_FIRST_BAND_X = -16
-_EDGE_FACTOR = 10.0 ** 0.05  # IEC 61260-1 base-10: G**(1/(2b)) with G = 10**0.3, b = 3
 #: Default analysis span of the occupied bandwidth (Hz, low end); the high end is fs/2.
 OBW_SPAN_LOW_HZ = 20.0
 #: Tilt span before clipping to the passband (Hz).
@@ -105,37 +90,6 @@ def _ro(a) -> np.ndarray:
     a = np.array(a, dtype=float)
     a.flags.writeable = False
     return a
-
-
-@dataclass(frozen=True)
-class ThirdOctaveBands:
-    """One-third-octave bands below a Nyquist frequency (IEC 61260-1 base 10).
-
-    Attributes
-    ----------
-    nominal_hz, centre_hz, lower_hz, upper_hz : ndarray
-        Nominal label, exact mid-band frequency and band edges (Hz), read-only.
-    """
-
-    nominal_hz: np.ndarray
-    centre_hz: np.ndarray
-    lower_hz: np.ndarray
-    upper_hz: np.ndarray
-
-
-def third_octave_bands(sample_rate_hz: float) -> ThirdOctaveBands:
-    """The one-third-octave bands 25 Hz ... 20 kHz whose upper edge is below ``fs / 2``."""
-    fs = float(sample_rate_hz)
-    x = np.arange(len(NOMINAL_THIRD_OCTAVE_HZ)) + _FIRST_BAND_X
-    centre = 1000.0 * 10.0 ** (x / 10.0)
-    upper = centre * _EDGE_FACTOR
-    keep = upper < fs / 2.0
-    return ThirdOctaveBands(
-        nominal_hz=_ro(np.array(NOMINAL_THIRD_OCTAVE_HZ)[keep]),
-        centre_hz=_ro(centre[keep]),
-        lower_hz=_ro(centre[keep] / _EDGE_FACTOR),
-        upper_hz=_ro(upper[keep]),
-    )
 
 
 def band_powers(psd, freqs_hz, lower_hz, upper_hz) -> np.ndarray:
@@ -164,30 +118,36 @@ def _levels_db(power: np.ndarray) -> np.ndarray:
         return 10.0 * np.log10(np.maximum(power, 0.0))
 
 
-def third_octave_levels_db(psd, freqs_hz) -> tuple[np.ndarray, np.ndarray]:
+def third_octave_levels_db(psd, freqs_hz) -> BandLevels:
     """One-third-octave band levels of a one-sided PSD.
 
     The grid's last frequency is taken as the Nyquist frequency: only bands whose upper
-    edge lies below it are returned.
+    edge lies below it are returned (:func:`voiceband.bands.third_octave_bands`).
 
     Returns
     -------
-    nominal_hz : ndarray
-        Nominal band centres (Hz).
-    band_db : ndarray
-        Band levels, ``10 log10`` of the band power (dBFS for a full-scale PSD; ``-inf``
-        for a band without power).
+    BandLevels
+        Band levels (kind ``"band"``), ``10 log10`` of the band power (dBFS for a
+        full-scale PSD; ``-inf`` for a band without power).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> f = np.arange(0, 4001.0)                      # 1 Hz bins up to 4 kHz
+    >>> bl = third_octave_levels_db(np.full(f.size, 1e-6), f)   # white: -60 dB per Hz
+    >>> round(float(bl.as_spectrum().levels_db[-1]), 6)
+    -60.0
     """
     f = np.asarray(freqs_hz, dtype=float)
     bands = third_octave_bands(2.0 * f[-1])
-    return bands.nominal_hz, _levels_db(band_powers(psd, f, bands.lower_hz, bands.upper_hz))
+    return BandLevels(bands, _levels_db(band_powers(psd, f, bands.lower_hz, bands.upper_hz)), "band")
 
 
-def _slope(bands_hz, values, span_hz) -> Optional[float]:
-    f = _exact_centre_hz(np.asarray(bands_hz, dtype=float))
-    v = np.asarray(values, dtype=float)
-    if f.shape != v.shape:
-        raise MeasurementError(f"bands_hz and band levels must have equal length; got {f.shape} and {v.shape}")
+def _slope(levels: BandLevels, span_hz) -> Optional[float]:
+    if not isinstance(levels, BandLevels):
+        raise MeasurementError(f"levels must be BandLevels (voiceband.bands); got {type(levels).__name__}")
+    f = levels.bands.centre_hz
+    v = levels.levels_db
     lo, hi = (float(s) for s in span_hz)
     sel = (f >= lo * 0.999) & (f <= hi * 1.001) & np.isfinite(v)
     if np.count_nonzero(sel) < 3:
@@ -196,38 +156,44 @@ def _slope(bands_hz, values, span_hz) -> Optional[float]:
     return float(slope)
 
 
-def tilt_db_per_octave(bands_hz, band_db, *, span_hz=TILT_SPAN_HZ) -> Optional[float]:
+def tilt_db_per_octave(levels: BandLevels, *, span_hz=TILT_SPAN_HZ) -> Optional[float]:
     """Spectral tilt: least-squares slope of one-third-octave *band levels* vs log2(f).
 
     Bands whose exact mid-band frequency lies in ``span_hz`` take part; white noise reads
-    +3.01 dB/octave, pink noise 0.0 (constant-percentage bands; trade notes 5.3).
+    +3.01 dB/octave (10 log10 2: constant-percentage bands double in width per octave),
+    pink noise 0.0.
 
     Parameters
     ----------
-    bands_hz : array_like
-        Nominal band centres (Hz).
-    band_db : array_like
-        Band levels (dB).
+    levels : BandLevels
+        One-third-octave levels; spectrum levels are converted to band levels.
     span_hz : (float, float), keyword-only
 
     Returns
     -------
     float or None
         dB per octave; ``None`` with fewer than 3 finite bands in the span.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from voiceband.bands import third_octave_bands
+    >>> b = third_octave_bands(48000)
+    >>> white = BandLevels(b, np.zeros(b.size), "spectrum")   # flat PSD
+    >>> round(tilt_db_per_octave(white), 2)
+    3.01
     """
-    return _slope(bands_hz, band_db, span_hz)
+    return _slope(levels.as_band(), span_hz)
 
 
-def psd_tilt_db_per_octave(bands_hz, band_db, *, span_hz=TILT_SPAN_HZ) -> Optional[float]:
+def psd_tilt_db_per_octave(levels: BandLevels, *, span_hz=TILT_SPAN_HZ) -> Optional[float]:
     """Slope of the band *spectrum levels* (dB per Hz, i.e. the PSD) vs log2(f).
 
     Spectrum level = band level - 10 log10(band width); for one-third-octave bands this
     slope is 10 log10(2) = 3.01 dB/octave below :func:`tilt_db_per_octave` (white noise 0,
     pink noise -3.01 dB/octave).
     """
-    f = _exact_centre_hz(np.asarray(bands_hz, dtype=float))
-    width = f * (_EDGE_FACTOR - 1.0 / _EDGE_FACTOR)
-    return _slope(bands_hz, np.asarray(band_db, dtype=float) - 10.0 * np.log10(width), span_hz)
+    return _slope(levels.as_spectrum(), span_hz)
 
 
 @dataclass(frozen=True)
@@ -313,7 +279,7 @@ class SpectralAccumulator:
     Parameters
     ----------
     sample_rate_hz : float
-        At least 4000 Hz.
+        8000–192000 Hz (:func:`voiceband.validate.sample_rate_hz`).
 
     Notes
     -----
@@ -330,7 +296,7 @@ class SpectralAccumulator:
     """
 
     def __init__(self, sample_rate_hz: float):
-        fs = _check_rate(sample_rate_hz)
+        fs = validate.sample_rate_hz(sample_rate_hz)
         self.sample_rate_hz = fs
         self._activity = ActivityAccumulator(fs)
         self.nfft = self._activity.nfft
@@ -429,14 +395,16 @@ class SpectralAccumulator:
                 obw = None
             lo, hi = TILT_SPAN_HZ
             if not steady:
-                edges = passband_edges(bands.nominal_hz, speech_db, noise_band_db=noise_db, reference="auto")
+                edges = passband_edges(BandLevels(bands, speech_db),
+                                       noise=None if noise_db is None else BandLevels(bands, noise_db),
+                                       reference="auto")
                 if edges.low_hz is not None:
                     lo = max(lo, edges.low_hz)
                 if edges.high_hz is not None:
                     hi = min(hi, edges.high_hz)
             if lo < hi:
-                tilt = tilt_db_per_octave(bands.nominal_hz, speech_db, span_hz=(lo, hi))
-                tilt_psd = psd_tilt_db_per_octave(bands.nominal_hz, speech_db, span_hz=(lo, hi))
+                tilt = tilt_db_per_octave(BandLevels(bands, speech_db), span_hz=(lo, hi))
+                tilt_psd = psd_tilt_db_per_octave(BandLevels(bands, speech_db), span_hz=(lo, hi))
                 span = (float(lo), float(hi)) if tilt is not None else None
 
         spectrum = SpectrumResult(

@@ -7,6 +7,6 @@ responses), ``metrics`` (edges, ripple), ``quality`` (silent or clipped recordin
 """
 
 from .measure import HarmonicLevel, ResponseResult, measure_response
-from .metrics import PassbandEdges
+from .metrics import ResponseEdges
 
-__all__ = ["measure_response", "ResponseResult", "HarmonicLevel", "PassbandEdges"]
+__all__ = ["measure_response", "ResponseResult", "HarmonicLevel", "ResponseEdges"]

@@ -28,7 +28,7 @@ from .deconvolve import (
     window_group_delay_s,
     window_response,
 )
-from .metrics import PassbandEdges, passband_edges, passband_level_db, passband_ripple_db
+from .metrics import ResponseEdges, response_edges, passband_level_db, passband_ripple_db
 from .offset import DEFAULT_MAX_OFFSET_HZ, shift_frequency, sweep_offset, tone_offset, tone_transfer, track_tones
 from .quality import check_recording
 from .stimulus import StimulusAnalysis, active_segments, analyse_stimulus
@@ -102,7 +102,7 @@ class ResponseResult:
     passband_level_db : float
         Recording level re stimulus level at the passband peak (the chain's gain).
     passband_peak_hz : float
-    edges_hz : PassbandEdges
+    edges_hz : ResponseEdges
     ripple_db : float or None
     delay_s : float
         Time in the recording (its own clock, from its first sample) at which the stimulus's
@@ -140,7 +140,7 @@ class ResponseResult:
     snr_db: np.ndarray
     passband_level_db: float
     passband_peak_hz: float
-    edges_hz: PassbandEdges
+    edges_hz: ResponseEdges
     ripple_db: float | None
     delay_s: float
     clock_ratio: float
@@ -229,12 +229,12 @@ def _find_sweep(x: np.ndarray, y: np.ndarray, ana: StimulusAnalysis, fs: int) ->
     return _align.Match(lag=m.lag - seg.start, coefficient=m.coefficient)
 
 
-def _summarise(freqs: np.ndarray, mag_raw_db: np.ndarray) -> tuple[np.ndarray, float, float, PassbandEdges, float | None]:
+def _summarise(freqs: np.ndarray, mag_raw_db: np.ndarray) -> tuple[np.ndarray, float, float, ResponseEdges, float | None]:
     level, ipk = passband_level_db(freqs, mag_raw_db)
     if not np.isfinite(level):
         raise MeasurementError("No frequency of the response stands above the recording's noise.")
     mag = mag_raw_db - level
-    edges = passband_edges(freqs, mag, ipk)
+    edges = response_edges(freqs, mag, ipk)
     ripple = passband_ripple_db(freqs, mag, edges)
     return mag, level, float(freqs[ipk]), edges, ripple
 

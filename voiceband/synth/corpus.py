@@ -24,7 +24,7 @@ Stage keys
 ----------
 ``white``, ``pink``
     ``level_dbfs`` (RMS) or ``snr_db`` (noise RMS = the speech's P.56 active level − snr_db,
-    the active-speech SNR of trade-facts §6.3).
+    the active-speech SNR of ITU-T test practice; from memory).
 ``hiss``
     As above, plus ``low_hz``, ``high_hz`` (Butterworth passband edges) and ``order``.
 ``hum``
@@ -57,6 +57,7 @@ from typing import Any, Callable, Iterable, Union
 
 import numpy as np
 
+from .. import validate
 from ..errors import ChainFileError, SignalValueError
 
 __all__ = [
@@ -216,8 +217,12 @@ def read_spec(path: Union[str, os.PathLike]) -> CorpusSpec:
     if Path(output).name != output or Path(output).suffix.lower() not in (".wav", ".flac"):
         raise ChainFileError(f"{w}: 'output' must be a plain .wav or .flac file name, got {output!r}.")
     fs = _whole(data, "sample_rate_hz", w, required=True)
-    if not 8000 <= fs <= 192000:
-        raise ChainFileError(f"{w}: 'sample_rate_hz' must be 8000–192000 Hz, got {fs}.")
+    try:
+        validate.sample_rate_hz(fs)
+    except SignalValueError:
+        raise ChainFileError(
+            f"{w}: 'sample_rate_hz' must be {validate.MIN_SAMPLE_RATE_HZ}–{validate.MAX_SAMPLE_RATE_HZ} Hz, "
+            f"got {fs}.") from None
     duration = _number(data, "duration_s", w, required=True)
     if not 1.0 <= duration <= 600.0:
         raise ChainFileError(f"{w}: 'duration_s' must be 1–600 s, got {duration:g}.")
