@@ -24,7 +24,8 @@ def batch(
         Path, typer.Option("--out", "-o", help="Table to write: .csv, .jsonl (full analysis per file) or .parquet.", metavar="FILE")
     ] = Path("batch.csv"),
     workers: Annotated[
-        Optional[int], typer.Option("--workers", "-j", help="Worker processes (default: the CPU count).", min=1, max=1024)
+        Optional[int], typer.Option("--workers", "-j", help="Worker processes here or in --scheduler local (default: the CPU count).",
+                                      min=1, max=1024, metavar="N")
     ] = None,
     channel: Annotated[
         str, typer.Option("--channel", "-c", help="Channel to analyse in every file: a number from 0, or 'mix'.")
