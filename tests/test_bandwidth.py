@@ -26,7 +26,7 @@ from voiceband.reference_spectra import (
     effort_band_levels_db,
     reference_band_levels_db,
 )
-from voiceband.measurement.spectrum import analyze_spectrum
+from voiceband.analysis import measure_recording
 
 #: ANSI S3.5-1997 Table 3 (one-third-octave procedure): band centres and standard speech
 #: spectrum levels per vocal effort, dB SPL per Hz.
@@ -126,7 +126,7 @@ def test_obw_of_brick_wall_white_noise(rng, fs):
     # Issue 2 check value: white noise through an ideal 300-2700 Hz band has a 99 %
     # occupied bandwidth of 2376 Hz with edges 312 / 2688 Hz (analytic, 0.5 % of 2400 Hz).
     x = brick_wall_noise(rng, fs, 60.0 if fs == 8000 else 20.0, 300.0, 2700.0)
-    obw = analyze_spectrum(x, fs).occupied_bandwidth
+    obw = measure_recording(x, fs).occupied_bandwidth
     assert obw.low_hz == pytest.approx(312.0, abs=2.0)
     assert obw.high_hz == pytest.approx(2688.0, abs=2.0)
     assert obw.width_hz == pytest.approx(2376.0, abs=3.0)
@@ -139,7 +139,7 @@ def test_obw_of_butterworth_noise_matches_integrated_response(rng):
     fs = 16000
     sos = signal.butter(4, [500, 2000], "bandpass", fs=fs, output="sos")
     x = signal.sosfilt(sos, rng.standard_normal(fs * 40))
-    obw = analyze_spectrum(x, fs).occupied_bandwidth
+    obw = measure_recording(x, fs).occupied_bandwidth
     f, h = signal.sosfreqz(sos, worN=1 << 18, fs=fs)
     sel = f >= 20.0
     p = np.abs(h[sel]) ** 2
@@ -270,7 +270,7 @@ def test_edges_of_filtered_speech_shaped_noise(rng):
     x = signal.sosfilt(sos, 0.1 * speech_shaped_noise(rng, fs, n, "ansi_s3.5") * gate)
     x += 1e-5 * rng.standard_normal(n)
     lo_ref, hi_ref = minus_10_db_points(sos, fs, (50, 300), (2700, 7000))
-    res = analyze_spectrum(x, fs)
+    res = measure_recording(x, fs)
     assert res.activity.pause_frame_count > 0
     default = res.edges
     assert default.reference.startswith("ansi_s3.5") and default.reference.endswith("(fitted)")
@@ -297,7 +297,7 @@ def test_edges_of_full_band_effort_shaped_noise(rng, effort):
     n = fs * 12
     x = 0.1 * effort_shaped_noise(rng, fs, n, effort) * speech_gate(fs, n)
     x += 1e-6 * rng.standard_normal(n)
-    e = analyze_spectrum(x, fs).edges
+    e = measure_recording(x, fs).edges
     assert e.low_hz is None or e.low_hz <= 200.0
     assert e.effort_index == pytest.approx(VOCAL_EFFORTS.index(effort), abs=0.3)
     assert effort in e.reference
@@ -314,7 +314,7 @@ def test_edges_of_band_passed_effort_shaped_noise(rng, effort):
     x = signal.sosfilt(sos, 0.1 * effort_shaped_noise(rng, fs, n, effort) * speech_gate(fs, n))
     x += 1e-5 * rng.standard_normal(n)
     lo_ref, hi_ref = minus_10_db_points(sos, fs, (50, 300), (2700, 7000))
-    e = analyze_spectrum(x, fs).edges
+    e = measure_recording(x, fs).edges
     assert e.low_hz == pytest.approx(lo_ref, rel=0.10)
     assert e.high_hz == pytest.approx(hi_ref, rel=0.10)
     assert e.effort_index == pytest.approx(VOCAL_EFFORTS.index(effort), abs=0.3)
@@ -333,7 +333,7 @@ def test_effort_fit_survives_a_high_pass_reaching_into_the_fit_span(rng, effort)
     lo_ref = optimize.brentq(
         lambda f: 20.0 * np.log10(abs(signal.sosfreqz(sos, [f], fs=fs)[1][0])) + 10.0, 100, 600
     )
-    e = analyze_spectrum(x, fs).edges
+    e = measure_recording(x, fs).edges
     assert e.low_hz == pytest.approx(lo_ref, rel=0.10)
     assert e.high_hz is None
     assert min(e.effort_fit_bands_hz) >= 800.0

@@ -6,9 +6,10 @@ first use (PEP 562 module ``__getattr__``), so the command line starts quickly.
 
 Recordings
     :func:`analyze_file`, :func:`analyze_signal` -> :class:`AnalysisResult`;
+    :func:`measure_recording`, :class:`RecordingAccumulator` -> the measurement results;
     :func:`read_audio`, :func:`audio_info`, :func:`write_audio`.
 Measurements (streaming accumulators and one-shot functions)
-    :func:`measure_levels`, :func:`measure_clipping`, :func:`analyze_spectrum`,
+    :func:`measure_levels`, :func:`measure_clipping`, :class:`LongTermSpectrumAccumulator`,
     :func:`occupied_bandwidth`, :func:`passband_edges`, :func:`detect_hum`, :func:`measure_voice`.
 Intelligibility (ANSI S3.5-1997, Taal et al. 2011)
     :func:`sii`, :func:`band_gains_db`, :func:`channel_sii`, :func:`sii_vs_channel_snr`,
@@ -49,8 +50,9 @@ _LAZY = {
     "LevelsAccumulator": ("voiceband.measurement.levels", "LevelsAccumulator"),
     "measure_clipping": ("voiceband.measurement.clipping", "measure_clipping"),
     "ClippingAccumulator": ("voiceband.measurement.clipping", "ClippingAccumulator"),
-    "analyze_spectrum": ("voiceband.measurement.spectrum", "analyze_spectrum"),
-    "SpectralAccumulator": ("voiceband.measurement.spectrum", "SpectralAccumulator"),
+    "measure_recording": ("voiceband.analysis", "measure_recording"),
+    "RecordingAccumulator": ("voiceband.analysis", "RecordingAccumulator"),
+    "LongTermSpectrumAccumulator": ("voiceband.measurement.spectrum", "LongTermSpectrumAccumulator"),
     "third_octave_bands": ("voiceband.bands", "third_octave_bands"),
     "occupied_bandwidth": ("voiceband.measurement.bandwidth", "occupied_bandwidth"),
     "passband_edges": ("voiceband.measurement.bandwidth", "passband_edges"),

@@ -27,6 +27,7 @@ __all__ = [
     "blocks",
     "read",
     "write",
+    "encode",
     "Channel",
 ]
 
@@ -257,6 +258,21 @@ def read(
     return x, ai.sample_rate_hz
 
 
+def _encoding(path: Path, samples: np.ndarray, sample_rate_hz: int, subtype: str) -> tuple[np.ndarray, str, str]:
+    """Checked samples, soundfile format and subtype for writing ``path``."""
+    x = np.asarray(samples, dtype=np.float64)
+    if not np.all(np.isfinite(x)):
+        raise SignalValueError("samples to write contain NaN or Inf.")
+    try:
+        validate.sample_rate_hz(sample_rate_hz)
+    except SignalValueError as exc:
+        raise AudioFormatError(str(exc)) from None
+    fmt = {".wav": "WAV", ".flac": "FLAC", ".ogg": "OGG"}.get(path.suffix.lower())
+    if fmt is None:
+        raise AudioFormatError(f"cannot write '{path.name}': use a .wav, .flac or .ogg file name.")
+    return x, fmt, ("VORBIS" if fmt == "OGG" else subtype)
+
+
 def write(
     path: Union[str, os.PathLike],
     samples: np.ndarray,
@@ -271,20 +287,19 @@ def write(
     The format follows the file extension (``.wav``, ``.flac``, ``.ogg``).
     Refuses to overwrite an existing file unless ``force`` is true.
     """
-    x = np.asarray(samples, dtype=np.float64)
-    if not np.all(np.isfinite(x)):
-        raise SignalValueError("samples to write contain NaN or Inf.")
-    try:
-        validate.sample_rate_hz(sample_rate_hz)
-    except SignalValueError as exc:
-        raise AudioFormatError(str(exc)) from None
-    sf = _sf()
     p = Path(path)
-    fmt = {".wav": "WAV", ".flac": "FLAC", ".ogg": "OGG"}.get(p.suffix.lower())
-    if fmt is None:
-        raise AudioFormatError(f"cannot write '{p.name}': use a .wav, .flac or .ogg file name.")
-    if fmt == "OGG":
-        subtype = "VORBIS"
+    x, fmt, subtype = _encoding(p, samples, sample_rate_hz, subtype)
+    sf = _sf()
     with atomic_output(p, force=force, make_folders=make_folders) as tmp:
         sf.write(str(tmp), x, int(sample_rate_hz), subtype=subtype, format=fmt)
     return p
+
+
+def encode(name: Union[str, os.PathLike], samples: np.ndarray, sample_rate_hz: int, *, subtype: str = "PCM_16") -> bytes:
+    """The bytes :func:`write` would write to a file called ``name`` (format from its extension); writes nothing."""
+    import io
+
+    x, fmt, subtype = _encoding(Path(name), samples, sample_rate_hz, subtype)
+    buf = io.BytesIO()
+    _sf().write(buf, x, int(sample_rate_hz), subtype=subtype, format=fmt)
+    return buf.getvalue()

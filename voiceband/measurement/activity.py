@@ -310,7 +310,7 @@ class ActivityAccumulator:
         the block as float32.
 
         ``frames`` (read-only) and the float32 block are views valid until the next call.
-        Used by :class:`voiceband.measurement.spectrum.SpectralAccumulator` to share the framing and
+        Used by :class:`voiceband.analysis.RecordingAccumulator` to share the framing and
         the one conversion to float32.
         """
         x = validate.block(block)

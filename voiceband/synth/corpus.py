@@ -1,4 +1,4 @@
-"""The synthetic corpus: spec files (TOML), rendering, WAV output and the manifest.
+"""The synthetic corpus: spec files (TOML), rendering, the manifest; files written through :mod:`voiceband.audio`.
 
 A spec file describes one recording and says what it exercises::
 
@@ -48,9 +48,7 @@ duration, sample format, generator version and the SHA-256 of the file's bytes.
 
 from __future__ import annotations
 
-import hashlib
 import os
-import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable, Iterable, Union
@@ -69,7 +67,8 @@ __all__ = [
     "render",
     "generate",
     "verify",
-    "file_sha256",
+    "render_entry",
+    "manifest_document",
     "default_spec_paths",
 ]
 
@@ -398,27 +397,21 @@ def render(spec: CorpusSpec) -> np.ndarray:
 # --------------------------------------------------------------------------- files
 
 
-def file_sha256(path: Union[str, os.PathLike]) -> str:
-    """SHA-256 of a file's bytes, as 64 hex digits."""
-    h = hashlib.sha256()
-    with open(path, "rb") as f:
-        for chunk in iter(lambda: f.read(1 << 20), b""):
-            h.update(chunk)
-    return h.hexdigest()
-
-
 def default_spec_paths(folder: Union[str, os.PathLike] = "corpus_synthetic") -> list[Path]:
     """All ``*.toml`` spec files in ``folder``, sorted by name."""
     return sorted(Path(folder).glob("*.toml"))
 
 
-def _write_one(spec: CorpusSpec, path: Path, *, force: bool) -> ManifestEntry:
-    from ..audio import write
+def render_entry(spec: CorpusSpec) -> tuple[np.ndarray, ManifestEntry]:
+    """The samples of ``spec`` and its manifest entry, whose SHA-256 is that of the bytes
+    :func:`voiceband.audio.write` writes for them (computed in memory; nothing is written)."""
+    import hashlib
+
+    from ..audio import encode
 
     x = render(spec)
     subtype = _SUBTYPES[spec.bits]
-    write(path, x, spec.sample_rate_hz, subtype=subtype, force=force, make_folders=True)
-    return ManifestEntry(
+    entry = ManifestEntry(
         file=spec.output,
         spec=Path(spec.path).name,
         description=spec.description,
@@ -428,8 +421,19 @@ def _write_one(spec: CorpusSpec, path: Path, *, force: bool) -> ManifestEntry:
         frames=int(x.size),
         subtype=subtype,
         generator_version=GENERATOR_VERSION,
-        sha256=file_sha256(path),
+        sha256=hashlib.sha256(encode(spec.output, x, spec.sample_rate_hz, subtype=subtype)).hexdigest(),
     )
+    return x, entry
+
+
+def manifest_document(entries: dict[str, Any]) -> dict:
+    """The ``manifest.json`` document for ``entries`` (file name -> :class:`ManifestEntry`, or the
+    entry as read from an earlier manifest), sorted by file name."""
+    return {
+        "generator": "voiceband synth",
+        "generator_version": GENERATOR_VERSION,
+        "files": [entries[k] for k in sorted(entries)],
+    }
 
 
 def _read_specs(spec_paths: Iterable[Union[str, os.PathLike]]) -> list[CorpusSpec]:
@@ -478,6 +482,7 @@ def generate(
     OutputExistsError
         A WAV or the manifest exists and ``force`` is false.
     """
+    from ..audio import write
     from ..outputs import check_writable
     from ..report.serialize import write_json
 
@@ -492,17 +497,13 @@ def generate(
     entries = _load_manifest(manifest_path)
     written = []
     for s in specs:
-        e = _write_one(s, out / s.output, force=force)
+        x, e = render_entry(s)
+        write(out / s.output, x, s.sample_rate_hz, subtype=e.subtype, force=force, make_folders=True)
         entries[e.file] = e
         written.append(e)
         if progress is not None:
             progress(e)
-    manifest = {
-        "generator": "voiceband synth",
-        "generator_version": GENERATOR_VERSION,
-        "files": [entries[k] for k in sorted(entries)],
-    }
-    write_json(manifest, manifest_path, force=True, make_folders=True)
+    write_json(manifest_document(entries), manifest_path, force=True, make_folders=True)
     return written
 
 
@@ -510,7 +511,7 @@ def verify(
     spec_paths: Iterable[Union[str, os.PathLike]],
     manifest_path: Union[str, os.PathLike],
 ) -> list[tuple[str, str | None, str]]:
-    """Regenerate each spec in a temporary folder and compare its hash with the manifest.
+    """Regenerate each spec in memory and compare its hash with the manifest (writes nothing).
 
     Returns
     -------
@@ -522,9 +523,8 @@ def verify(
         raise ChainFileError(f"No manifest at '{mp}'.")
     entries = _load_manifest(mp)
     out = []
-    with tempfile.TemporaryDirectory(prefix="voiceband-synth-") as tmp:
-        for s in specs:
-            e = _write_one(s, Path(tmp) / s.output, force=False)
-            recorded = entries.get(s.output)
-            out.append((s.output, None if recorded is None else str(recorded.get("sha256")), e.sha256))
+    for s in specs:
+        e = render_entry(s)[1]
+        recorded = entries.get(s.output)
+        out.append((s.output, None if recorded is None else str(recorded.get("sha256")), e.sha256))
     return out
