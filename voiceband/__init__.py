@@ -19,6 +19,8 @@ Synthesis and test signals
     :func:`reference_tone`, :func:`stepped_tones`, noise generators.
 Chain response
     :func:`measure_response` -> ``ResponseResult``.
+Design bench
+    :func:`read_chain` -> ``Chain``; :func:`evaluate_chain`, :func:`compare_chains`, :func:`sweep_cutoffs`.
 """
 
 from __future__ import annotations
@@ -81,6 +83,10 @@ _LAZY = {
     "measure_response": ("voiceband.response", "measure_response"),
     "run_batch": ("voiceband.batch", "run_batch"),
     "BatchSettings": ("voiceband.batch", "BatchSettings"),
+    "read_chain": ("voiceband.chain", "read_chain"),
+    "evaluate_chain": ("voiceband.design.evaluate", "evaluate_chain"),
+    "compare_chains": ("voiceband.design.compare", "compare_chains"),
+    "sweep_cutoffs": ("voiceband.design.sweep", "sweep_cutoffs"),
 }
 
 __all__ = [
