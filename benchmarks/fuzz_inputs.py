@@ -61,7 +61,9 @@ def judge(res, leaked: str) -> tuple[str, str]:
         return "crash", "not one sentence: " + res.output.strip()[:200]
     if any(w in lines[0] for w in DECODER_WORDING):
         return "crash", "decoder wording: " + lines[0][:200]
-    return "error", lines[0][11:90]
+    import re
+
+    return "error", re.sub(r"'[^']*'", "FILE", lines[0][11:])[:70]
 
 
 class _Fd2Capture:
@@ -236,8 +238,12 @@ def main() -> None:
     print(f"  batch over {batch['files']} of the inputs: {batch['rows']} rows ({batch['ok_rows']} ok), exit {batch['exit']}, "
           f"{'each file once' if batch['outcome'] == 'result' else 'WRONG'}")
     print("  by kind: " + "; ".join(f"{k} {dict(v)}" for k, v in sorted(by_kind.items())))
-    errors = collections.Counter(r["detail"].split("'")[-1][:60] if r["outcome"] == "error" else "" for r in results)
-    print("  most common clean errors: " + " | ".join(f"{n}× {e.strip()}" for e, n in errors.most_common(6) if e))
+    import re
+
+    errors = collections.Counter(re.sub(r"[\d.]+", "N", r["detail"]) for r in results if r["outcome"] == "error")
+    print("  most common clean errors:")
+    for e, n in errors.most_common(6):
+        print(f"    {n:5d} × {e}")
     crashes = [r for r in results if r["outcome"] == "crash"] + [
         {"i": r["i"], "detail": "response: " + r["response_detail"]} for r in results if r.get("response") == "crash"]
     for r in crashes[:20]:
