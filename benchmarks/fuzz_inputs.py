@@ -240,7 +240,7 @@ def main() -> None:
     print("  by kind: " + "; ".join(f"{k} {dict(v)}" for k, v in sorted(by_kind.items())))
     import re
 
-    errors = collections.Counter(re.sub(r"[\d.]+", "N", r["detail"]) for r in results if r["outcome"] == "error")
+    errors = collections.Counter(re.sub(r"\b\d+(\.\d+)?\b", "N", r["detail"]) for r in results if r["outcome"] == "error")
     print("  most common clean errors:")
     for e, n in errors.most_common(6):
         print(f"    {n:5d} × {e}")
