@@ -31,7 +31,7 @@ def test_discover_walks_sorted_skips_hidden_and_non_audio_and_dedupes(tmp_path):
 def test_sha256_known_answer_and_large_file(tmp_path):
     p = tmp_path / "abc"
     p.write_bytes(b"abc")
-    # FIPS 180-4 / NIST example "abc" (SHA-256 one-block message)
+    # FIPS 180-4 / NIST example "abc" (SHA-256 one-block message); digest from memory, hashlib agrees
     assert file_sha256(p) == "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
     big = tmp_path / "big"
     data = bytes(range(256)) * 9000  # spans several 1 MiB reads
