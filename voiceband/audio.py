@@ -177,6 +177,24 @@ def _open(p: Path) -> Iterator["object"]:
         f.close()
 
 
+#: Text tags libsndfile reads from a file's metadata (WAV INFO chunks, FLAC/OGG comments).
+TAG_NAMES = ("title", "artist", "album", "date", "comment", "software", "copyright", "license", "genre", "tracknumber")
+
+
+def tags(path: Union[str, os.PathLike]) -> dict[str, str]:
+    """The file's text metadata tags that are present, e.g. ``{"title": "...", "comment": "..."}``.
+
+    Unreadable metadata gives an empty dict (tags are informative only); call :func:`info` first to
+    validate the file itself.
+    """
+    try:
+        with _native_stderr_silenced(), _sf().SoundFile(str(path)) as f:
+            got = {name: getattr(f, name, "") for name in TAG_NAMES}
+    except Exception:  # metadata is optional: never fail a report over it
+        return {}
+    return {k: str(v) for k, v in got.items() if v}
+
+
 def _check_channel(channel: Channel, channels: int) -> Channel:
     if isinstance(channel, str):
         if channel == "mix":

@@ -25,6 +25,8 @@ app = typer.Typer(
 _COMMANDS = [
     ("analyze", "voiceband.cli.analyze", "analyze"),
     ("batch", "voiceband.cli.batch", "batch"),
+    ("report", "voiceband.cli.report", "report"),
+    ("demo", "voiceband.cli.demo", "demo"),
     ("response", "voiceband.cli.response", "response"),
     ("synth", "voiceband.cli.synth", "synth"),
     ("testsignal", "voiceband.cli.testsignal", "testsignal"),
