@@ -155,7 +155,7 @@ def test_fail_fast_stops_and_says_so(folder, tmp_path):
 @pytest.mark.parametrize("args, message", [
     (["--out", "x.txt"], "must end in .csv, .jsonl or .parquet"),
     (["--channel", "left"], "--channel must be a number"),
-    (["--profile", "no-such-profile"], "--profile"),
+    (["--profile", "no-such-profile"], "no profile 'no-such-profile'"),
     (["--glob", "*.nothing"], "no audio files found"),
 ])
 def test_bad_options_one_sentence(folder, tmp_path, args, message):
@@ -172,3 +172,32 @@ def test_missing_path_refused(tmp_path):
     res = _run(tmp_path / "nowhere", "--out", tmp_path / "t.csv")
     assert res.exit_code == 2 and "No such file or folder" in res.output
     assert not (tmp_path / "t.csv").exists()
+
+
+def test_profile_adds_verdict_columns_equal_to_the_profiles_own_judging(folder, tmp_path):
+    from voiceband.analysis import analyze_file
+    from voiceband.profiles import load_profile
+    from voiceband.profiles.verdicts import verdicts, worst
+
+    root, files = folder
+    out = tmp_path / "t.csv"
+    res = _run(*files["good"][:2], root / "random_bytes.wav", "--out", out, "--profile", "ssb-voice", "--workers", 1)
+    assert res.exit_code == 1, res.output
+    rows = _csv_rows(out)
+    prof = load_profile("ssb-voice")
+    checks = list(dict.fromkeys(lim.check for lim in prof.limits))
+    assert list(rows[0]) == list(COLUMNS) + ["verdict"] + [f"verdict.{c}" for c in checks]
+    by = {r["path"]: r for r in rows}
+    for p in files["good"][:2]:
+        judged = {v.check: v.status for v in verdicts(analyze_file(p), prof)}  # the report's judging, in process
+        r = by[str(p)]
+        assert r["verdict"] == (worst(judged.values()) or "")
+        assert all(r[f"verdict.{c}"] == judged.get(c, "") for c in checks)
+        assert r["verdict"] in ("pass", "marginal", "fail")
+    bad = by[str(root / "random_bytes.wav")]
+    assert bad["status"] == "failed" and bad["verdict"] == "" and all(bad[f"verdict.{c}"] == "" for c in checks)
+    # rows judged under one profile are not taken as recorded for another: the files are judged again
+    res = _run(*files["good"][:2], "--out", out, "--profile", "telephone", "--resume")
+    assert res.exit_code == 0 and "2 analysed" in res.output, res.output
+    rows = _csv_rows(out)
+    assert len(rows) == 5 and len({r["settings"] for r in rows}) == 2

@@ -43,7 +43,8 @@ def test_settings_hash_is_stable_and_follows_each_setting():
     a = settings_hash(BatchSettings().as_dict())
     assert a == settings_hash(BatchSettings(channel="0").as_dict()) and len(a) == 16
     assert a != settings_hash(BatchSettings(channel="mix").as_dict())
-    assert a != settings_hash(BatchSettings(profile="x").as_dict())
+    assert a != settings_hash(BatchSettings(profile="ssb-voice").as_dict())
+    assert settings_hash(BatchSettings(profile="ssb-voice").as_dict()) != settings_hash(BatchSettings(profile="telephone").as_dict())
     assert a != settings_hash({**BatchSettings().as_dict(), "voiceband_version": "0.0.0"})
 
 

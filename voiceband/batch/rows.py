@@ -27,7 +27,7 @@ class BatchSettings:
     channel : str
         Channel analysed, a number from ``"0"`` or ``"mix"``.
     profile : str or None
-        Service profile whose verdicts are added to each row, or None for none.
+        Service profile (a built-in name or a TOML file) whose verdicts are added to each row, or None.
     """
 
     channel: str = "0"
@@ -37,7 +37,12 @@ class BatchSettings:
         """The settings that decide a row's content, with the voiceband version (the measurement code)."""
         from .. import __version__
 
-        return {"command": "analyze", "channel": self.channel, "profile": self.profile, "voiceband_version": __version__}
+        out = {"command": "analyze", "channel": self.channel, "profile": self.profile, "voiceband_version": __version__}
+        if self.profile is not None:
+            from .profile import profile_digest
+
+            out["profile_sha256"] = profile_digest(self.profile)
+        return out
 
 
 #: Columns every row has, in this order (fixed by the batch issue).

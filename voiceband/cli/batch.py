@@ -31,7 +31,8 @@ def batch(
         str, typer.Option("--channel", "-c", help="Channel to analyse in every file: a number from 0, or 'mix'.")
     ] = "0",
     profile: Annotated[
-        Optional[str], typer.Option("--profile", help="Add the verdicts of service profile NAME to each row.", metavar="NAME")
+        Optional[str], typer.Option("--profile", help="Add the verdicts of service profile NAME (or a profile FILE) to each row: 'verdict' and 'verdict.<check>'.",
+                     metavar="NAME|FILE")
     ] = None,
     resume: Annotated[bool, typer.Option("--resume", help="Continue an existing output: skip files already recorded with the same content and settings.")] = False,
     scheduler: Annotated[
