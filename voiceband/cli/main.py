@@ -64,6 +64,7 @@ _SUMMARIES = {
     "chain": "Response, edges and SII of a chain file.",
     "compare": "Run chains on the same speech and compare them.",
     "sweep": "Find the best filter cutoffs for a bandwidth limit.",
+    "batch": "Analyse many recordings into one table (CSV, JSON lines or Parquet).",
 }
 
 for _name, _module, _func in _COMMANDS:
