@@ -199,7 +199,7 @@ def _fit_sweep(x: np.ndarray, seg: Segment, fs: int) -> SweepParameters | None:
 
 def _tones_in(seg: np.ndarray, sample_rate_hz: int) -> tuple[np.ndarray, np.ndarray] | None:
     """(frequencies, amplitudes) of the spectral peaks of one steady segment, or None."""
-    from scipy.signal import find_peaks
+    from .signaltools import find_peaks
 
     n = seg.size
     if n < 64:
@@ -211,7 +211,7 @@ def _tones_in(seg: np.ndarray, sample_rate_hz: int) -> tuple[np.ndarray, np.ndar
     if top <= 0.0:
         return None
     pad = nfft / n
-    peaks, _ = find_peaks(mag, height=top * 10.0 ** (_TONE_THRESHOLD_DB / 20.0), distance=max(1, int(3 * pad)))
+    peaks = find_peaks(mag, height=top * 10.0 ** (_TONE_THRESHOLD_DB / 20.0), distance=max(1, int(3 * pad)))
     if peaks.size == 0 or peaks.size > _MAX_TONES:
         return None
     power = mag**2
