@@ -19,6 +19,8 @@ Synthesis and test signals
     :func:`reference_tone`, :func:`stepped_tones`, noise generators.
 Chain response
     :func:`measure_response` -> ``ResponseResult``.
+Design bench
+    :func:`read_chain` -> ``Chain``; :func:`evaluate_chain`, :func:`compare_chains`, :func:`sweep_cutoffs`.
 """
 
 from __future__ import annotations
@@ -79,6 +81,10 @@ _LAZY = {
     "mains_hum": ("voiceband.synth", "mains_hum"),
     "static_crashes": ("voiceband.synth", "static_crashes"),
     "measure_response": ("voiceband.response", "measure_response"),
+    "read_chain": ("voiceband.chain", "read_chain"),
+    "evaluate_chain": ("voiceband.design.evaluate", "evaluate_chain"),
+    "compare_chains": ("voiceband.design.compare", "compare_chains"),
+    "sweep_cutoffs": ("voiceband.design.sweep", "sweep_cutoffs"),
 }
 
 __all__ = [

@@ -34,6 +34,7 @@ Stage keys
     ``peak_dbfs``, ``rate_per_s``, ``decay_s``.
 ``bandpass`` / ``highpass`` / ``lowpass``
     Butterworth (causal): ``low_hz`` and ``high_hz`` / ``cutoff_hz``; ``order`` (default 4).
+    These and ``clip`` and ``gain`` are the stages of :mod:`voiceband.chain`.
 ``clip``
     Symmetric hard clipping at ``level_dbfs`` (sample peak, e.g. −6 for clipping below full
     scale).
@@ -325,8 +326,7 @@ def render(spec: CorpusSpec) -> np.ndarray:
         A stage's values are rejected by its generator, or the result exceeds full scale
         (lower a level or add a ``clip`` stage).
     """
-    from scipy import signal
-
+    from ..chain import Clipper, Filter, Gain
     from . import noise
     from .speech import synthesize_speech
 
@@ -370,19 +370,14 @@ def render(spec: CorpusSpec) -> np.ndarray:
                     )
                 x = x + add[:n]
             elif kind in ("bandpass", "highpass", "lowpass"):
-                order = int(o.get("order", 4))
-                if kind == "bandpass":
-                    if not o["low_hz"] < o["high_hz"]:
-                        raise ChainFileError(f"{ws}: 'low_hz' must be below 'high_hz'.")
-                    sos = signal.butter(order, [o["low_hz"], o["high_hz"]], btype="bandpass", fs=fs, output="sos")
-                else:
-                    sos = signal.butter(order, o["cutoff_hz"], btype=kind, fs=fs, output="sos")
-                x = signal.sosfilt(sos, x)
+                if kind == "bandpass" and not o["low_hz"] < o["high_hz"]:
+                    raise ChainFileError(f"{ws}: 'low_hz' must be below 'high_hz'.")
+                x = Filter(kind=kind, order=int(o.get("order", 4)), cutoff_hz=o.get("cutoff_hz"),
+                           low_hz=o.get("low_hz"), high_hz=o.get("high_hz")).process(x, fs)
             elif kind == "clip":
-                c = 10.0 ** (o["level_dbfs"] / 20.0)
-                x = np.clip(x, -c, c)
+                x = Clipper(mode="hard", level_dbfs=o["level_dbfs"]).process(x, fs)
             else:
-                x = x * 10.0 ** (o["gain_db"] / 20.0)
+                x = Gain.from_db(o["gain_db"]).process(x, fs)
         except SignalValueError as exc:
             raise ChainFileError(f"{ws}: {exc}") from None
     peak = float(np.max(np.abs(x)))
