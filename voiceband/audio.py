@@ -33,8 +33,9 @@ __all__ = [
 #: Lowest and highest sample rates voiceband accepts (Hz): the one range of :mod:`voiceband.validate`.
 MIN_SAMPLE_RATE_HZ = validate.MIN_SAMPLE_RATE_HZ
 MAX_SAMPLE_RATE_HZ = validate.MAX_SAMPLE_RATE_HZ
-#: Default streaming block length in frames (about 5.5 s at 48 kHz).
-DEFAULT_BLOCK_FRAMES = 1 << 18
+#: Default streaming block length in frames (about 22 s at 48 kHz): long enough that the per-block
+#: work of the accumulators is small against the per-sample work, short enough for flat memory.
+DEFAULT_BLOCK_FRAMES = 1 << 20
 
 Channel = Union[int, str]  # channel index, or "mix" for the mean of all channels
 
