@@ -168,7 +168,7 @@ def test_testsignal_refuses_to_overwrite(tmp_path):
     "args, expected",
     [
         (["multitone", "--high-hz", 30000], "Nyquist"),
-        (["tone", "--peak-dbfs", 3], "peak_dbfs"),
+        (["tone", "--peak-dbfs", 3], "--peak-dbfs"),
         (["steps", "--duration-s", 3], "--dwell-s"),
         (["two-tone", "--low-hz", 300], "--tone-hz"),
         (["tone", "--bits", 8], "--bits"),
