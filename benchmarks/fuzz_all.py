@@ -370,6 +370,8 @@ def _worker(job: tuple[int, int, int]) -> dict:
             shutil.rmtree(out, ignore_errors=True)
         return {"counts": {k: dict(v) for k, v in counts.items()}, "examples": dict(examples), "leftovers": leftovers}
     finally:
+        # the commands installed their SIGTERM/SIGHUP handlers in this worker; the pool ends it with SIGTERM
+        signal.signal(signal.SIGTERM, signal.SIG_DFL)
         os.chdir(cwd)
         shutil.rmtree(root, ignore_errors=True)
 
