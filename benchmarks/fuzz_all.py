@@ -299,8 +299,23 @@ class _Case:
                                                   self.f["good.wav"] + "/d", "/dev/full"])]
 
 
+def _batch(self) -> list:
+    a = ["batch"] + [self.audio() for _ in range(self.rng.choice([1, 2, 3]))]
+    self.opt(a, "--out", self.dest(self.rng.choice([".csv", ".jsonl", ".txt", ".csv"])), 0.8)
+    self.opt(a, "--workers", _numbers(self.rng, [1, 2]), 0.2)
+    self.opt(a, "--glob", self.rng.choice(["*.wav", "[", "*"]), 0.1)
+    self.opt(a, "--channel", self.rng.choice(["0", "mix", "7"]), 0.1)
+    self.opt(a, "--profile", self.rng.choice(["ssb-voice", "nope"]), 0.1)
+    for flag in ("--resume", "--fail-fast", "--force"):
+        if self.rng.random() < 0.1:
+            a.append(flag)
+    return a
+
+
+_Case.batch = _batch
+
 _WEIGHTS = {"analyze": 3, "response": 2, "testsignal": 3, "synth": 1.5, "chain": 1.5, "compare": 0.6, "sweep": 1.0,
-            "report": 0.8, "demo": 0.2}
+            "report": 0.8, "demo": 0.2, "batch": 1.0}
 
 
 def _classify(res, code: int) -> str:
