@@ -339,6 +339,7 @@ def check_output(path: os.PathLike | str, *, force: bool = False, resume: bool =
     suffix = p.suffix.lower()
     if suffix not in OUTPUT_SUFFIXES:
         raise OutputFormatError(f"--out must end in .csv, .jsonl or .parquet; got '{p.name}'.")
+    check_writable(p, force=True, inputs=inputs)  # first: name length before any stat; folder, permission, not an input
     if p.is_dir():
         raise OutputExistsError(f"'{p}' is a folder; give a file name.")
     if suffix == ".parquet" and not _parquet_available():
@@ -351,7 +352,6 @@ def check_output(path: os.PathLike | str, *, force: bool = False, resume: bool =
         raise OutputExistsError(f"'{p}' already exists; use --resume to continue it or --force to replace it.")
     if suffix == ".parquet" and not exists and journal_path(p).exists() and not resume and not force:
         raise OutputExistsError(f"'{journal_path(p)}' holds rows of an interrupted run; use --resume to continue it or --force to start again.")
-    check_writable(p, force=True, inputs=inputs)  # folder, permission, name length, not an input
 
 
 def open_output(path: os.PathLike | str, columns: tuple[str, ...], types: Mapping[str, str], *,
