@@ -199,7 +199,7 @@ def write_report(report: Report, out: Union[str, os.PathLike], *, force: bool = 
             if isinstance(data, bytes):
                 tmp.write_bytes(data)
             else:
-                tmp.write_text(data, encoding="utf-8")
+                tmp.write_text(data, encoding="utf-8", errors="replace")  # a name that is not UTF-8 shows as ?
 
     for stem, _, png in pngs:
         put(f"{stem}.png", png)
