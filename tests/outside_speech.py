@@ -292,12 +292,16 @@ class Case:
         return self.clean_active_level_dbfs - self.noise_rms_dbfs
 
 
-def _pink(n: int, rng: np.random.Generator) -> np.ndarray:
-    # 1/f power by shaping white noise in the frequency domain (DC bin zeroed).
+#: Pink noise starts here (Hz): recorders and sound cards block lower frequencies.
+PINK_LOW_HZ = 50.0
+
+
+def _pink(n: int, fs: int, rng: np.random.Generator) -> np.ndarray:
+    # 1/f power from PINK_LOW_HZ to Nyquist, by shaping white noise in the frequency domain.
     spec = np.fft.rfft(rng.standard_normal(n))
-    k = np.arange(spec.size, dtype=float)
-    k[0] = np.inf
-    return np.fft.irfft(spec / np.sqrt(k), n)
+    f = np.fft.rfftfreq(n, 1.0 / fs)
+    gain = np.where(f >= PINK_LOW_HZ, 1.0 / np.sqrt(np.maximum(f, PINK_LOW_HZ)), 0.0)
+    return np.fft.irfft(spec * gain, n)
 
 
 def make_case(
@@ -338,7 +342,7 @@ def make_case(
     y = x.copy()
     noise_rms = None
     if snr_db is not None and noise != "none":
-        w = rng.standard_normal(n) if noise == "white" else _pink(n, rng)
+        w = rng.standard_normal(n) if noise == "white" else _pink(n, fs, rng)
         w *= 10 ** ((clean_level - snr_db) / 20) / np.sqrt(np.mean(w * w))
         noise_rms = 10 * math.log10(np.mean(w * w))
         y = y + w
