@@ -56,7 +56,7 @@ __all__ = [
 #: Edge criterion: dB below the passband level.
 DROP_DB = 10.0
 #: Allowed departure of a talker's long-term spectrum from the fitted reference at an edge (dB).
-TALKER_SPREAD_DB = 4.0
+TALKER_SPREAD_DB = 6.0
 #: Knee steeper than this (dB/octave) marks a channel edge rather than a talker's roll-off.
 STEEP_DB_PER_OCTAVE = 18.0
 #: A range wider than this (octaves) marks the edge uncertain.
@@ -169,6 +169,7 @@ def fine_edges(
     *,
     effort_index: Optional[float] = None,
     f0_low_hz: Optional[float] = None,
+    f0_median_hz: Optional[float] = None,
     drop_db: float = DROP_DB,
 ) -> Optional[FineEdges]:
     """Estimate both passband edges from a fine speech PSD (method in the module docstring).
@@ -219,24 +220,93 @@ def fine_edges(
     logf = np.log2(grid)
     # Points where nothing can be said: hidden in noise, below the talker's lowest F0.
     below_f0 = grid < (_F0_FRACTION * f0_low_hz) if f0_low_hz else np.zeros(grid.size, dtype=bool)
-    hidden_bound = None
-    if noise_psd is not None:
-        hidden_bound = 10.0 * np.log10(np.maximum(_HIDDEN_RATIO * npsd, tiny)) - ref
-    fit = _fit_skirts(logf, r, ~hidden & ~below_f0, hidden & ~below_f0, hidden_bound, nyq)
-    if fit is None:
-        return None
-    low, high, model_db = fit
-    low = _limit(low, -1, grid, hidden, below_f0, nyq)
-    high = _limit(high, +1, grid, hidden, below_f0, nyq)
+    # Smooth the response over a window that always spans a harmonic spacing (a voiced
+    # talker's long-term spectrum is a comb at multiples of F0) and at least 1/6 octave.
+    rs = _smooth_db(r, grid, f0_median_hz)
+    span = (grid >= PASSBAND_SPAN_HZ[0]) & (grid <= min(PASSBAND_SPAN_HZ[1], top)) & ~hidden
+    if np.count_nonzero(span) < POINTS_PER_OCTAVE // 2:
+        span = ~hidden
+    vals = np.sort(rs[span])[::-1]
+    pb = float(np.median(vals[: 2 * POINTS_PER_OCTAVE]))
+    near_top = np.flatnonzero(span & (rs >= pb - 3.0))
+    if TILT_CORRECTION and near_top.size >= POINTS_PER_OCTAVE:
+        # The talker's own tilt against the reference, fitted over the passband, removed.
+        k = np.polyfit(logf[near_top], rs[near_top], 1)[0]
+        mid = float(np.median(logf[near_top]))
+        rs = rs - k * (logf - mid)
+        vals = np.sort(rs[span])[::-1]
+        pb = float(np.median(vals[: 2 * POINTS_PER_OCTAVE]))
+        near_top = np.flatnonzero(span & (rs >= pb - 3.0))
+    i_mid = int(near_top[near_top.size // 2]) if near_top.size else int(np.flatnonzero(span)[0])
+    i_lo, i_hi = int(near_top[0]), int(near_top[-1])
+
+    def one(step: int) -> Edge:
+        start = i_hi if step > 0 else i_lo
+        thr = pb - drop_db
+        hz = _stay_crossing(logf, rs, start, step, thr)
+        inner = _stay_crossing(logf, rs, start, step, thr + TALKER_SPREAD_DB)
+        outer = _stay_crossing(logf, rs, start, step, thr - TALKER_SPREAD_DB)
+        if inner is None:
+            return Edge(None, None, None, False, "span")
+        if outer is None:
+            outer = nyq if step > 0 else float(grid[0])
+        a, b = sorted((inner, outer))
+        sel = (grid >= a) & (grid <= b)
+        knee = None
+        if np.count_nonzero(sel) >= 3:
+            knee = float(np.max(np.abs(np.gradient(rs, logf)[sel])))
+        return Edge(hz, (float(a), float(b)), knee, False, None)
+
+    low = _limit(one(-1), -1, grid, hidden, below_f0, nyq)
+    high = _limit(one(+1), +1, grid, hidden, below_f0, nyq)
     return FineEdges(
         low=low,
         high=high,
         drop_db=float(drop_db),
         reference=label,
         freqs_hz=grid,
-        response_db=model_db,
+        response_db=rs - pb,
         span_hz=(float(grid[0]), nyq),
     )
+
+
+#: Remove the talker's tilt against the reference over the passband.
+TILT_CORRECTION = True
+#: Smoothing window at least this many F0 spacings wide.
+F0_WINDOW = 0.5
+#: Smoothing of the response: at least this many octaves, and at least one F0 spacing.
+RESPONSE_SMOOTH_OCTAVES = 1.0 / 12.0
+#: A crossing counts only if the response stays below the level for this many octaves
+#: (or to the end of the span): a talker's narrow dip is not an edge.
+STAY_OCTAVES = 0.25
+
+
+def _smooth_db(r: np.ndarray, grid: np.ndarray, f0_hz: Optional[float]) -> np.ndarray:
+    p = 10.0 ** (r / 10.0)
+    c = np.concatenate(([0.0], np.cumsum(p)))
+    logf = np.log2(grid)
+    half_oct = np.full(grid.size, RESPONSE_SMOOTH_OCTAVES / 2)
+    if f0_hz:
+        half_oct = np.maximum(half_oct, np.log2(1.0 + F0_WINDOW * 0.5 * f0_hz / grid))
+    lo = np.searchsorted(logf, logf - half_oct, side="left")
+    hi = np.searchsorted(logf, logf + half_oct, side="right")
+    mean = (c[hi] - c[lo]) / np.maximum(hi - lo, 1)
+    return 10.0 * np.log10(np.maximum(mean, 1e-300))
+
+
+def _stay_crossing(logf, r, start, step, level) -> Optional[float]:
+    n = r.size
+    stay = int(round(STAY_OCTAVES * POINTS_PER_OCTAVE))
+    i = start
+    while 0 <= i + step < n:
+        j = i + step
+        if r[j] < level:
+            seg = r[j: j + step * stay: step] if step > 0 else r[max(j - stay, 0): j + 1]
+            if np.all(seg < level + 1.0):
+                t = (r[i] - level) / (r[i] - r[j])
+                return float(2.0 ** (logf[i] + t * (logf[j] - logf[i])))
+        i = j
+    return None
 
 
 #: Skirt orders tried (a Butterworth-like skirt -10 log10(1 + (f/fc)**(2 n)); n = 1 is a first-order RC).
