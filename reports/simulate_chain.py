@@ -5,9 +5,13 @@ import sys
 
 import numpy as np
 import soundfile as sf
-from scipy.signal import butter, sosfilt
 
+from voiceband.chain import chain_from_dict
+
+chain = chain_from_dict({"name": "stand-in transmitter and receiver", "stage": [
+    {"kind": "bandpass", "type": "butterworth", "order": 4, "low_hz": 300, "high_hz": "2.7k"},
+    {"kind": "gain", "db": -3},
+]})
 x, fs = sf.read(sys.argv[1])
-sos = butter(4, [300, 2700], "bandpass", fs=fs, output="sos")
-y = np.concatenate([np.zeros(int(0.25 * fs)), sosfilt(sos, x), np.zeros(fs // 2)]) * 10 ** (-3 / 20)
+y = np.concatenate([np.zeros(int(0.25 * fs)), chain.process(x, fs), np.zeros(fs // 2)])
 sf.write(sys.argv[2], y, fs, subtype="PCM_16")

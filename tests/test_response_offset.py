@@ -2,8 +2,8 @@
 
 The shifted recordings are made here with an independent single-sideband shift:
 Re{x_a(t)·e^{j2πΔf t}}, x_a the analytic signal from scipy.signal.hilbert (Oppenheim &
-Schafer, Discrete-Time Signal Processing, 3rd ed., §12.4, from memory).  A shift moves
-every frequency by Δf (trade-facts §7: "a shift, not a scaling").
+Schafer, Discrete-Time Signal Processing, 3rd ed., section 12.4, from memory).  A shift moves
+every frequency by Δf (a shift, not a scaling; common practice).
 """
 
 from __future__ import annotations
@@ -26,7 +26,7 @@ def _ssb_shift(x, shift_hz, fs):
 
 
 def _schroeder_multitone(seconds, fs, *, low=300.0, high=3000.0, k=28):
-    # Equal-amplitude tones with Schroeder phases φ_k = −πk²/K (Schroeder 1970, trade-facts §7),
+    # Equal-amplitude tones with Schroeder phases φ_k = −πk²/K (Schroeder, IEEE Trans. IT-16, 1970),
     # built here rather than with the project's generator so the test is independent of it.
     f = np.linspace(low, high, k)
     t = np.arange(int(seconds * fs)) / fs

@@ -1,7 +1,7 @@
 """Exponential sweep, Farina deconvolution and the measured response of known filters.
 
 References used below: the sweep formula and the inverse filter (Farina 2000, AES
-preprint 5093, as summarised in trade-facts §7); scipy.signal.sosfreqz / group_delay as an
+preprint 5093); scipy.signal.sosfreqz / group_delay as an
 independent reference for every digital filter; analytic edge formulas named beside each
 check.
 """
@@ -42,7 +42,7 @@ def test_sweep_follows_the_farina_formula(sweep16):
     s = sweep16
     x = np.asarray(s.sweep) / 10.0 ** (s.level_dbfs / 20.0)
     t = np.arange(x.size) / FS
-    lc = s.duration_s / np.log(s.stop_hz / s.start_hz)  # L = T / ln(f2/f1), Farina 2000 (trade-facts §7)
+    lc = s.duration_s / np.log(s.stop_hz / s.start_hz)  # L = T / ln(f2/f1), Farina 2000
     ref = np.sin(2.0 * np.pi * s.start_hz * lc * (np.exp(t / lc) - 1.0))
     mid = slice(x.size // 4, 3 * x.size // 4)  # away from the fades
     assert np.max(np.abs(x[mid] - ref[mid])) < 1e-9
@@ -89,7 +89,7 @@ def test_bad_sweep_parameters_are_refused(kwargs, match):
 
 
 def test_inverse_filter_turns_the_sweep_into_a_band_limited_impulse(sweep16):
-    # Farina 2000 (trade-facts §7): the time-reversed sweep with a −6 dB/octave envelope is
+    # Farina 2000: the time-reversed sweep with a −6 dB/octave envelope is
     # the sweep's inverse: sweep ⊛ inverse is flat in the band and peaks at len − 1.  The
     # first octave (fade-in, edge ripple) is left out: there the inverse is only approximate.
     s = sweep16.sweep
@@ -123,7 +123,7 @@ def test_deconvolution_recovers_a_pure_delay_and_gain(sweep16):
 
 
 def _rc_highpass(fs):
-    # R = 10 kΩ, C = 100 nF: f_c = 1/(2πRC) = 159.15 Hz (trade-facts §9.2); H(s) = sRC/(1 + sRC),
+    # R = 10 kΩ, C = 100 nF: f_c = 1/(2πRC) = 159.15 Hz (first-order RC high-pass, common practice); H(s) = sRC/(1 + sRC),
     # made digital by the bilinear transform (scipy.signal.bilinear).
     rc = 10e3 * 100e-9
     b, a = ss.bilinear([rc, 0.0], [rc, 1.0], fs=fs)
@@ -209,8 +209,8 @@ def test_response_of_a_pure_gain_is_flat_and_reports_the_gain(sweep16):
     x = np.asarray(sweep16.samples)
     y = np.concatenate([np.zeros(800), 0.25 * x, np.zeros(8000)])
     r = measure_response(x, FS, y, FS)
-    # gain 0.25 = −12.04 dB; ±0.1–0.2 dB is what to expect of a sweep measurement (trade-facts §7,
-    # common practice), and this noise-free case does better
+    # gain 0.25 = −12.04 dB; ±0.1–0.2 dB is what to expect of a sweep measurement (common
+    # practice), and this noise-free case does better
     assert r.passband_level_db == pytest.approx(20 * np.log10(0.25), abs=0.05)
     assert np.max(np.abs(r.magnitude_db)) < 0.1
     inner = (r.frequencies_hz > 40) & (r.frequencies_hz < 6000)
@@ -318,5 +318,5 @@ def test_sweep_without_markers_says_the_clock_was_not_measured(rng):
     sos, _, _ = _butter_bandpass(FS)
     r = measure_response(x, FS, _record(x, sos, lead_samples=5000, rng=rng), FS)
     assert not r.clock_ratio_measured and r.clock_ratio == 1.0
-    assert any("markers" in f for f in r.findings)
+    assert any("markers" in f.message for f in r.findings)
     assert r.edges_hz.low_3db == pytest.approx(300.0, rel=0.02)

@@ -1,8 +1,8 @@
 """SII engine (ANSI S3.5-1997 clause 4) against the published and derived check values.
 
-Sources are named beside each check. "Reference notes" is /work/shared/reference/sii-ansi-s3.5-1997.md;
-its section 3 collects the check values (Annex C worked examples via the CRAN SII package, the working
-group's errata, the reference C program's output) and section 4 the known pitfalls.
+Sources are named beside each check: ANSI S3.5-1997 Annex C worked examples (as reproduced by the CRAN
+SII package), the ASA S3-79 working group's errata, the ASA S3-79 reference C program's output, values
+computed from the standard's equations and tables, and pitfalls seen in public implementations.
 """
 
 from __future__ import annotations
@@ -56,7 +56,7 @@ def test_annex_c2_one_third_octave_example_with_errata():
 
 
 def test_normal_speech_in_quiet_one_third_octave():
-    # Reference C program output reported by the reference notes (section 3, row 3): 0.99582517;
+    # ASA S3-79 reference C program output: 0.99582517;
     # A = 1 in bands 1-17 and 0.7743 at 8 kHz.
     r = sii(normal_speech())
     assert r.index == pytest.approx(0.99582517, abs=1e-6)
@@ -67,7 +67,7 @@ def test_normal_speech_in_quiet_one_third_octave():
 @pytest.mark.parametrize(
     "procedure, expected",
     [
-        # Reference notes section 3 row 4 ([calc], consistent with the reference C program).
+        # Computed from ANSI S3.5-1997 clause 4 (consistent with the ASA S3-79 reference C program).
         ("critical-band", 0.995504),
         # Table 2: importance 0.0588 x 17 = 0.9996, the largest possible value of this procedure.
         ("equal-critical-band", 0.9996),
@@ -83,7 +83,7 @@ def test_normal_speech_in_quiet_all_procedures(procedure, expected):
 
 @pytest.mark.parametrize("procedure, expected", [("one-third-octave", 0.4663), ("octave", 0.5000)])
 def test_speech_shaped_noise_at_zero_db(procedure, expected):
-    # Reference notes section 3 row 5: N' = E' (normal effort): 0.4663 (one-third octave, agrees with
+    # Computed from ANSI S3.5-1997: N' = E' (normal effort): 0.4663 (one-third octave, agrees with
     # the speech-intelligibility-index package) and exactly 0.5 for octaves (K = 15/30, L = 1).
     u = normal_speech(procedure)
     assert sii(u, u, procedure=procedure).index == pytest.approx(expected, abs=0.0005)
@@ -91,7 +91,7 @@ def test_speech_shaped_noise_at_zero_db(procedure, expected):
 
 @pytest.mark.parametrize("s_db", [-15.0, -10.0, -3.5, 0.0, 2.0, 5.0, 8.0])
 def test_octave_analytic_snr(s_db):
-    # Analytic from Eqs. 11-14 (reference notes section 3 row 6): octave bands have Z = N' (4.3.1), so with
+    # Analytic from Eqs. 11-14: octave bands have Z = N' (4.3.1), so with
     # N' = E' - s above the internal noise and L = 1, K = (s + 15)/30 in every band and SII = (s + 15)/30
     # because the Table 4 importance sums to 1.
     u = normal_speech("octave")
@@ -109,7 +109,7 @@ def test_octave_analytic_snr_batched():
 
 def test_overall_level_normal_effort_one_third_octave():
     # Table 3 / clause 3.40: normal effort is 62.35 dB SPL overall; the band sum computes to 62.36
-    # (reference notes section 3 row 7, tolerance 0.02 dB).
+    # (computed from ANSI S3.5-1997 Table 3, tolerance 0.02 dB).
     assert overall_level_db(normal_speech()) == pytest.approx(62.35, abs=0.02)
 
 
@@ -117,7 +117,7 @@ def test_overall_level_normal_effort_one_third_octave():
     "effort, stated_db", [("raised", 68.34), ("loud", 74.85), ("shout", 82.30)]
 )
 def test_overall_level_other_efforts(effort, stated_db):
-    # Stated overall levels of the standard (reference notes section 2); band sums of Table 3 compute to
+    # Stated overall levels of the standard (ANSI S3.5-1997 Table 3 / clause 3.40); band sums of Table 3 compute to
     # 68.28 / 74.86 / 82.36, within the 0.1 dB that the speech-intelligibility-index package's own test allows.
     assert overall_level_db(standard_speech_spectrum(effort)) == pytest.approx(stated_db, abs=0.1)
 
@@ -125,7 +125,7 @@ def test_overall_level_other_efforts(effort, stated_db):
 @pytest.mark.parametrize(
     "name, expected",
     [
-        # Reference notes section 3 row 8 (speech-intelligibility-index package run, weights passed
+        # speech-intelligibility-index package run (weights passed
         # explicitly): normal speech in quiet with the Annex B Table B.2 functions.
         ("nonsense-syllables", 1.0000),
         ("cid-w22", 0.9943),
@@ -146,13 +146,13 @@ def test_annex_b_importance_in_quiet(name, expected):
 
 @pytest.mark.parametrize("procedure", list(PROCEDURE_BANDS))
 def test_average_importance_sums(procedure):
-    # Tables 1, 3, 4 sum to 1.0000; Table 2 is 17 x 0.0588 = 0.9996 (reference notes section 1.1).
+    # Tables 1, 3, 4 sum to 1.0000; Table 2 is 17 x 0.0588 = 0.9996 (ANSI S3.5-1997 Tables 1-4).
     expected = 0.9996 if procedure == "equal-critical-band" else 1.0
     assert band_procedure(procedure).importance.sum() == pytest.approx(expected, abs=1e-9)
 
 
 def test_annex_b_column_sums():
-    # Reference notes section 1.4 [calc]: every column sums to 1.000 except B.1 NU6 0.9998, B.2 SPIN 0.9999,
+    # Computed from ANSI S3.5-1997 Annex B Tables B.1-B.3: every column sums to 1.000 except B.1 NU6 0.9998, B.2 SPIN 0.9999,
     # B.3 NU6 0.978 and B.3 CID W-22 0.9978 (the last two flagged as probable transcription slips).
     sums = {
         (p, name): float(w.sum())
@@ -166,7 +166,7 @@ def test_annex_b_column_sums():
 
 
 def test_equal_critical_band_is_rows_3_to_19_of_table_1():
-    # Table 2 = bands 3-19 of Table 1 (300-6400 Hz) with I = 0.0588 (reference notes section 1.1).
+    # Table 2 = bands 3-19 of Table 1 (300-6400 Hz) with I = 0.0588 (ANSI S3.5-1997 Tables 1-4).
     cb, ecb = band_procedure("critical-band"), band_procedure("equal-critical-band")
     np.testing.assert_array_equal(ecb.centres_hz, cb.centres_hz[2:19])
     assert ecb.lower_hz[0] == 300 and ecb.upper_hz[-1] == 6400
@@ -176,7 +176,7 @@ def test_equal_critical_band_is_rows_3_to_19_of_table_1():
 
 
 def test_octave_levels_equal_one_third_octave_levels_at_same_centres():
-    # Reference notes Table 4 note: spectrum levels do not depend on bandwidth, so U and X of Table 4
+    # ANSI S3.5-1997 Tables 3 and 4: spectrum levels do not depend on bandwidth, so U and X of Table 4
     # equal Table 3's at 250, 500, ... 8000 Hz.
     to, oc = band_procedure("one-third-octave"), band_procedure("octave")
     idx = [int(np.flatnonzero(to.centres_hz == f)[0]) for f in oc.centres_hz]
@@ -186,7 +186,7 @@ def test_octave_levels_equal_one_third_octave_levels_at_same_centres():
 
 
 def test_one_third_octave_band_limits_are_base_ten():
-    # Reference notes Table 3 note: base-10 nominal limits 141, 178, 224, ... 7079, 8913 Hz.
+    # IEC 61260-1:2014 clause 5.5 (Table 3 prints no limits): base-10 nominal limits 141, 178, 224, ... 7079, 8913 Hz.
     t = band_procedure("one-third-octave")
     nominal = [141, 178, 224, 282, 355, 447, 562, 708, 891, 1122, 1413, 1778, 2239, 2818, 3548, 4467, 5623, 7079, 8913]
     np.testing.assert_allclose(np.r_[t.lower_hz, t.upper_hz[-1]], nominal, atol=0.6)
@@ -208,7 +208,7 @@ def test_tables_are_read_only():
 
 
 def test_transcription_flags():
-    # Reference notes section 2: loud effort at 400 Hz (Table 3) is 43.30 dB (43.40 is a typo in one
+    # ANSI S3.5-1997 Table 3 (open transcriptions compared): loud effort at 400 Hz (Table 3) is 43.30 dB (43.40 is a typo in one
     # transcription); shout at 450 Hz (Tables 1 and 2) is 48.46 dB (one transcription has 48.48).
     to = band_procedure("one-third-octave")
     assert to.speech_spectrum_db["loud"][4] == 43.30
@@ -223,7 +223,7 @@ def test_transcription_flags():
 
 
 def test_pitfall_inputs_are_spectrum_levels_not_band_levels():
-    # Reference notes section 4: feeding band levels drops quiet SII from 0.9958 to 0.9042 and the
+    # Computed (a pitfall of public implementations): feeding band levels drops quiet SII from 0.9958 to 0.9042 and the
     # 0 dB SNR value from 0.4663 to 0.4100.
     u = normal_speech()
     band = spectrum_to_band_level(u)
@@ -259,7 +259,7 @@ def test_pitfall_disturbance_max_hearing_loss_in_noise_one_third_octave():
 
 
 def test_pitfall_level_distortion_clipped_at_zero():
-    # Eq. 11 clipped to [0, 1] (reference notes section 4): at E' = 250 dB one library that clips only the
+    # Eq. 11 clipped to [0, 1] (ANSI S3.5-1997; a pitfall of public implementations): at E' = 250 dB one library that clips only the
     # top returns -0.006; clipping both ends gives L = 0 and SII = 0.
     r = sii(np.full(18, 250.0))
     np.testing.assert_array_equal(r.L, 0.0)
@@ -267,7 +267,7 @@ def test_pitfall_level_distortion_clipped_at_zero():
 
 
 def test_level_distortion_uses_normal_effort_spectrum():
-    # Eq. 11 with U the normal-effort spectrum whatever the vocal effort (reference notes section 1.2 step 7):
+    # Eq. 11 with U the normal-effort spectrum whatever the vocal effort (ANSI S3.5-1997 Eq. 11):
     # shouted speech at 1 m has L = 1 - (U_shout - U_normal - 10)/160 where that is below 1.
     shout = standard_speech_spectrum("shout")
     normal = normal_speech()
@@ -306,7 +306,7 @@ def test_pitfall_octave_has_no_self_speech_or_spread_of_masking():
 
 
 def test_pitfall_annex_b_names_not_shifted():
-    # Reference notes section 4: one library's names are shifted by one ("spin" returns the DRT weights).
+    # Seen in a public implementation: one library's names are shifted by one ("spin" returns the DRT weights).
     # Table B.2 SPIN column starts 0.0000, 0.0255, 0.0256; DRT starts 0.0000, 0.0240, 0.0330.
     spin = band_importance("spin")
     drt = band_importance("drt")
@@ -316,7 +316,7 @@ def test_pitfall_annex_b_names_not_shifted():
 
 
 def test_pitfall_mid_band_frequency_3150_not_3159():
-    # Reference notes section 4: 3150 Hz (one library prints 3159); Eq. 7 uses the nominal centre.
+    # ANSI S3.5-1997 Table 3: 3150 Hz (one library prints 3159); Eq. 7 uses the nominal centre.
     t = band_procedure("one-third-octave")
     assert t.centres_hz[13] == 3150.0
     r = sii(np.full(18, 40.0), np.zeros(18))
@@ -324,7 +324,7 @@ def test_pitfall_mid_band_frequency_3150_not_3159():
 
 
 def test_default_noise_minus_50_equals_minus_80():
-    # Reference notes section 1.2: N' = -50 dB (reference C program lineage) and -80 dB give the same SII
+    # ANSI S3.5-1997 clause 4: N' = -50 dB (ASA S3-79 reference C program default) and -80 dB give the same SII
     # in quiet, 0.99582517.
     u = normal_speech()
     assert sii(u, np.full(18, -80.0)).index == pytest.approx(sii(u).index, abs=1e-12)
@@ -332,7 +332,7 @@ def test_default_noise_minus_50_equals_minus_80():
 
 
 def test_critical_band_masking_ratio_uses_geometric_centre():
-    # Eq. 8 with F_i = sqrt(l_i h_i) as in the reference C program (reference notes section 1.2 step 4):
+    # Eq. 8 with F_i = sqrt(l_i h_i) as in the ASA S3-79 reference C program:
     # check Z_2 by hand for a loud first band.
     t = band_procedure("critical-band")
     speech = np.full(21, -100.0)
@@ -456,3 +456,24 @@ def test_standard_speech_distance_and_gain():
         standard_speech_spectrum("whisper")
     with pytest.raises(MeasurementError, match="distance_m"):
         standard_speech_spectrum(distance_m=0.0)
+
+
+@pytest.mark.parametrize("procedure", ["one-third-octave", "critical-band", "equal-critical-band", "octave"])
+def test_sii_index_equals_full_result(procedure):
+    # The index-only path must give exactly sii(...).index (same chain, chunked through a reused block);
+    # batch larger than one chunk, with -inf bands, broadcast noise and per-row importance.
+    from voiceband.intelligibility import band_procedure, sii_index
+
+    n = band_procedure(procedure).n_bands
+    rng = np.random.default_rng(11)
+    rows = 5000
+    e = rng.uniform(-10, 90, (rows, n))
+    e[::7, 0] = -np.inf
+    noise = rng.uniform(-20, 70, (1, n))
+    t = rng.uniform(0, 30, (rows, n))
+    assert np.array_equal(sii_index(e, noise, t, procedure=procedure), sii(e, noise, t, procedure=procedure).index)
+    w = rng.uniform(0, 1, (rows, n))
+    w /= w.sum(axis=-1, keepdims=True)
+    np.testing.assert_allclose(sii_index(e, noise, t, procedure=procedure, importance=w),
+                               sii(e, noise, t, procedure=procedure, importance=w).index, rtol=0, atol=1e-15)
+    assert isinstance(sii_index(e[0], noise[0], t[0], procedure=procedure), float)

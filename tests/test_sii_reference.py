@@ -2,7 +2,7 @@
 
 The package (Apache-2.0, import name ``speech_intelligibility_index``; its ``sii`` module needs only numpy)
 implements the one-third-octave procedure of ANSI S3.5-1997 independently. Importance weights are passed
-explicitly, because its Annex B test names are shifted by one (reference notes section 4). Levels are kept
+explicitly, because its Annex B test names are shifted by one (checked against ANSI S3.5-1997 Annex B). Levels are kept
 below the range where its level distortion factor goes negative (it clips L only at the top).
 """
 
@@ -57,7 +57,7 @@ def test_default_noise_and_threshold_match_reference(rng):
 
 
 def test_reference_test_name_shift_is_real():
-    # Reference notes section 4: the package's name "spin" resolves to the DRT column (its list has
+    # Seen in the package: its name "spin" resolves to the DRT column (its list has
     # 'drt', 'spin', 'short', 'spin'); our "drt" is that column, our "spin" is Table B.2's SPIN column.
     np.testing.assert_array_equal(reference.band_importance("spin"), band_importance("drt"))
     assert not np.array_equal(reference.band_importance("spin"), band_importance("spin"))

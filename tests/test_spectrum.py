@@ -1,19 +1,16 @@
-"""Long-term spectrum, one-third-octave bands, tilt and the streamed SpectralAccumulator."""
+"""Long-term spectrum, one-third-octave bands, tilt and the streamed RecordingAccumulator."""
 
 from __future__ import annotations
 
 import numpy as np
 import pytest
 
+from voiceband.analysis import Measurements, RecordingAccumulator, measure_recording
+from voiceband.bands import NOMINAL_THIRD_OCTAVE_HZ, BandLevels, third_octave_bands
 from voiceband.errors import SignalValueError
 from voiceband.measurement.spectrum import (
-    NOMINAL_THIRD_OCTAVE_HZ,
-    SpectralAccumulator,
-    SpectralAnalysis,
-    analyze_spectrum,
     band_powers,
     psd_tilt_db_per_octave,
-    third_octave_bands,
     third_octave_levels_db,
     tilt_db_per_octave,
 )
@@ -69,7 +66,7 @@ def test_band_level_of_full_scale_sine_at_1_khz():
     # wave RMS (DEVELOPERS.md convention; analytic).  All its power lies in the 1 kHz band.
     fs = 48000
     t = np.arange(fs * 3) / fs
-    res = analyze_spectrum(np.sin(2 * np.pi * 1000 * t), fs)
+    res = measure_recording(np.sin(2 * np.pi * 1000 * t), fs)
     sp = res.spectrum
     i1k = list(sp.bands_hz).index(1000.0)
     assert sp.speech_band_db[i1k] == pytest.approx(-3.0103, abs=0.01)
@@ -82,7 +79,7 @@ def test_band_powers_sum_to_total(rng):
     # Contiguous bands partition the frequency axis, so band powers plus what lies below the
     # first and above the last band add up to the PSD's integral (Parseval, fractional bins).
     fs = 48000
-    res = analyze_spectrum(0.1 * rng.standard_normal(fs * 4), fs)
+    res = measure_recording(0.1 * rng.standard_normal(fs * 4), fs)
     sp = res.spectrum
     psd, f = sp.speech_psd_fs2_per_hz, sp.freqs_hz
     bands = third_octave_bands(fs)
@@ -94,7 +91,8 @@ def test_band_powers_sum_to_total(rng):
     assert inside + outside == pytest.approx(total, rel=1e-12)
     # ... and that integral is the mean square of the signal (0.01), within Welch scatter.
     assert total == pytest.approx(0.01, rel=0.02)
-    nominal, levels = third_octave_levels_db(psd, f)
+    bl = third_octave_levels_db(psd, f)
+    nominal, levels = bl.nominal_hz, bl.levels_db
     np.testing.assert_allclose(levels, sp.speech_band_db, atol=1e-12)
     assert tuple(nominal) == tuple(sp.bands_hz)
 
@@ -102,7 +100,7 @@ def test_band_powers_sum_to_total(rng):
 def test_white_noise_psd_is_flat_at_variance_over_nyquist(rng):
     # One-sided PSD of white noise of variance s^2 is s^2 / (fs/2) per Hz (analytic).
     fs = 16000
-    res = analyze_spectrum(0.1 * rng.standard_normal(fs * 10), fs)
+    res = measure_recording(0.1 * rng.standard_normal(fs * 10), fs)
     psd = res.spectrum.speech_psd_fs2_per_hz[1:-1]
     assert np.mean(psd) == pytest.approx(0.01 / (fs / 2), rel=0.01)
 
@@ -114,16 +112,16 @@ def test_white_noise_psd_is_flat_at_variance_over_nyquist(rng):
 
 def test_tilt_of_analytic_band_levels():
     # White noise: band power proportional to band width, i.e. to f -> +10 log10(2) per
-    # octave on band levels and 0 on spectrum levels (analytic; trade notes 5.3).
+    # octave on band levels and 0 on spectrum levels (analytic).
     bands = third_octave_bands(48000)
     width = bands.upper_hz - bands.lower_hz
     white = 10 * np.log10(width)
-    assert tilt_db_per_octave(bands.nominal_hz, white) == pytest.approx(TEN_LOG_2, rel=1e-9)
-    assert psd_tilt_db_per_octave(bands.nominal_hz, white) == pytest.approx(0.0, abs=1e-9)
+    assert tilt_db_per_octave(BandLevels(bands, white)) == pytest.approx(TEN_LOG_2, rel=1e-9)
+    assert psd_tilt_db_per_octave(BandLevels(bands, white)) == pytest.approx(0.0, abs=1e-9)
     pink = np.zeros_like(white)
-    assert tilt_db_per_octave(bands.nominal_hz, pink) == pytest.approx(0.0, abs=1e-12)
-    assert psd_tilt_db_per_octave(bands.nominal_hz, pink) == pytest.approx(-TEN_LOG_2, rel=1e-9)
-    assert tilt_db_per_octave(bands.nominal_hz, pink, span_hz=(900, 1100)) is None  # one band
+    assert tilt_db_per_octave(BandLevels(bands, pink)) == pytest.approx(0.0, abs=1e-12)
+    assert psd_tilt_db_per_octave(BandLevels(bands, pink)) == pytest.approx(-TEN_LOG_2, rel=1e-9)
+    assert tilt_db_per_octave(BandLevels(bands, pink), span_hz=(900, 1100)) is None  # one band
 
 
 @pytest.mark.parametrize("colour, band_tilt", [("white", TEN_LOG_2), ("pink", 0.0)])
@@ -133,7 +131,7 @@ def test_tilt_of_noise_through_the_accumulator(rng, colour, band_tilt):
     fs = 48000
     n = fs * 20
     x = 0.1 * rng.standard_normal(n) if colour == "white" else 0.1 * pink_noise(rng, n, fs)
-    sp = analyze_spectrum(x, fs).spectrum
+    sp = measure_recording(x, fs).spectrum
     assert sp.tilt_db_per_octave == pytest.approx(band_tilt, abs=0.1)
     assert sp.tilt_psd_db_per_octave == pytest.approx(band_tilt - TEN_LOG_2, abs=0.1)
     assert sp.tilt_span_hz == (300.0, 3000.0)
@@ -148,7 +146,7 @@ def test_pause_spectrum_is_the_noise(rng):
     # Bursts over steady white noise of RMS 1e-3 (-60 dBFS): the pause PSD is the noise PSD
     # (flat at s^2 / (fs/2), analytic), the speech PSD holds the burst tones.
     fs = 16000
-    res = analyze_spectrum(bursts_with_noise(rng, fs, 20.0, noise_rms=1e-3), fs)
+    res = measure_recording(bursts_with_noise(rng, fs, 20.0, noise_rms=1e-3), fs)
     sp = res.spectrum
     noise = sp.noise_psd_fs2_per_hz
     assert np.median(noise[10:-10]) == pytest.approx(1e-6 / (fs / 2), rel=0.1)
@@ -164,12 +162,12 @@ def test_block_size_invariance(rng):
     x += 3e-3 * np.sin(2 * np.pi * 50.0 * np.arange(x.size) / fs)
     results = []
     for block in (x.size, 8192, 1000, 337):
-        acc = SpectralAccumulator(fs)
+        acc = RecordingAccumulator(fs)
         for i in range(0, x.size, block):
             acc.update(x[i : i + block])
         results.append(acc.result())
     ref = results[0]
-    assert isinstance(ref, SpectralAnalysis)
+    assert isinstance(ref, Measurements)
     for r in results[1:]:
         assert r.activity == ref.activity
         np.testing.assert_allclose(r.spectrum.speech_band_db, ref.spectrum.speech_band_db, atol=1e-5)
@@ -183,13 +181,13 @@ def test_block_size_invariance(rng):
 def test_result_does_not_change_the_accumulator(rng):
     fs = 8000
     x = bursts_with_noise(rng, fs, 6.0, noise_rms=1e-3)
-    acc = SpectralAccumulator(fs)
+    acc = RecordingAccumulator(fs)
     acc.update(x[:20000])
     first = acc.result()
     again = acc.result()
     np.testing.assert_array_equal(first.spectrum.speech_band_db, again.spectrum.speech_band_db)
     acc.update(x[20000:])
-    whole = analyze_spectrum(x, fs)
+    whole = measure_recording(x, fs)
     np.testing.assert_allclose(acc.result().spectrum.speech_band_db, whole.spectrum.speech_band_db, atol=1e-5)
 
 
@@ -201,7 +199,7 @@ def test_thinned_long_recording_weights_each_stretch_by_duration():
     fs = 8000
     half = fs * 360
     t = np.arange(half) / fs
-    acc = SpectralAccumulator(fs)
+    acc = RecordingAccumulator(fs)
     for f in (500.0, 1600.0):
         x = np.sin(2 * np.pi * f * t)
         for i in range(0, half, 1 << 18):
@@ -219,22 +217,22 @@ def test_thinned_long_recording_weights_each_stretch_by_duration():
 
 def test_digital_silence_and_short_input():
     fs = 8000
-    silent = analyze_spectrum(np.zeros(fs * 5), fs)
+    silent = measure_recording(np.zeros(fs * 5), fs)
     assert silent.activity.speech_frame_count == 0
     assert silent.activity.noise_floor_dbfs == -np.inf
     assert silent.spectrum.speech_psd_fs2_per_hz is None and silent.spectrum.speech_band_db is None
     assert silent.occupied_bandwidth is None and silent.edges is None and silent.hum is None
     assert silent.voice.f0_median_hz is None
-    short = analyze_spectrum(np.ones(100), fs)  # shorter than one 1024-sample frame
+    short = measure_recording(np.ones(100), fs)  # shorter than one 1024-sample frame
     assert short.spectrum is None and short.activity.frame_count == 0
     assert short.hum is None and short.hum_window_count == 0
 
 
 def test_bad_input():
-    with pytest.raises(SignalValueError, match="at least 4000 Hz"):
-        SpectralAccumulator(1000)
-    acc = SpectralAccumulator(8000)
-    with pytest.raises(SignalValueError, match="one-dimensional"):
+    with pytest.raises(SignalValueError, match="8000–192000 Hz"):
+        RecordingAccumulator(1000)
+    acc = RecordingAccumulator(8000)
+    with pytest.raises(SignalValueError, match="one channel"):
         acc.update(np.zeros((10, 2)))
     with pytest.raises(SignalValueError, match="NaN or infinite"):
         acc.update(np.full(5000, np.nan))

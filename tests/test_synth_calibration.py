@@ -10,7 +10,7 @@ Checks (issue 4):
   phrase pauses, common practice).
 
 The spectrum criterion is checked twice: with the project's long-term speech spectrum
-(:func:`voiceband.measurement.spectrum.analyze_spectrum`, speech frames, as ``voiceband analyze``
+(:func:`voiceband.analysis.measure_recording`, speech frames, as ``voiceband analyze``
 reports it) and with a band-level estimator written here, independently of the package:
 Welch PSD (1 s Hann segments, 1 Hz bins) summed over base-10 one-third-octave band limits
 (IEC 61260-1: exact mid-band 1000·10^(x/10) Hz, limits ×10^(±1/20)).
@@ -26,7 +26,7 @@ import pytest
 from scipy import signal
 
 from voiceband.measurement.levels import measure_levels
-from voiceband.measurement.spectrum import analyze_spectrum
+from voiceband.analysis import measure_recording
 from voiceband.synth.speech import (
     CALIBRATION_DB,
     EFFORTS,
@@ -60,7 +60,7 @@ def aligned_deviation_db(x: np.ndarray, fs: int, effort: str) -> np.ndarray:
 
 def project_deviation_db(x: np.ndarray, fs: int, effort: str) -> np.ndarray:
     """The same with the project's speech LTAS band levels (voiceband.measurement.spectrum)."""
-    sp = analyze_spectrum(x, fs).spectrum
+    sp = measure_recording(x, fs).spectrum
     keep = np.isin(sp.bands_hz, THIRD_OCTAVE_CENTRES_HZ)
     assert np.array_equal(sp.bands_hz[keep], THIRD_OCTAVE_CENTRES_HZ)
     d = sp.speech_band_db[keep] - ansi_speech_band_levels_db(effort)
@@ -97,7 +97,7 @@ def test_band_estimator_on_white_noise():
 
 def test_ansi_targets_match_reference_notes():
     # ANSI S3.5-1997 Table 3: 1000 Hz normal U = 25.01 dB/Hz, Δ = 23.65 dB; shout 8000 Hz
-    # U = 20.72, Δ = 32.65 (reference notes sii-ansi-s3.5-1997.md §2).
+    # U = 20.72, Δ = 32.65 (ANSI S3.5-1997 Table 3).
     assert ansi_speech_band_levels_db("normal")[8] == pytest.approx(25.01 + 23.65)
     assert ansi_speech_band_levels_db("shout")[17] == pytest.approx(20.72 + 32.65)
 

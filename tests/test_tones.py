@@ -28,13 +28,13 @@ def _amplitude_at(x: np.ndarray, fs: int, f_hz: float) -> float:
 
 
 def test_schroeder_phase_formula():
-    # Schroeder (1970), φ_k = −π k² / K for k = 1 … K (trade-facts §7; from memory).
+    # Schroeder (1970), φ_k = −π k² / K for k = 1 … K (from memory).
     k = np.arange(1, 29)
     assert np.allclose(schroeder_phases(28), -np.pi * k**2 / 28)
 
 
 def test_schroeder_multitone_crest_factor_28_tones():
-    # 28 equal tones 300–3000 Hz: Schroeder phases ≈ 5.5 dB (trade-facts §7 [K]; Schroeder
+    # 28 equal tones 300–3000 Hz: Schroeder phases ≈ 5.5 dB (computed; Schroeder
     # 1970, from memory); zero phases 10·log10(2K) = 17.48 dB (analytic: peak K·a, RMS a·√(K/2)).
     s = multitone(1.0, FS, low_hz=300, high_hz=3000, n_tones=28)
     assert s.crest_factor_db == pytest.approx(5.5, abs=0.15)
@@ -60,7 +60,7 @@ def test_multitone_frequencies_and_equal_amplitudes_by_fft():
 
 
 def test_two_tone_default_is_47_cfr_2_1049_pair():
-    # 47 CFR 2.1049: 400 + 1800 Hz for SSB with 3.0 kHz authorised bandwidth (trade-facts §1.5).
+    # 47 CFR 2.1049: 400 + 1800 Hz for SSB with 3.0 kHz authorised bandwidth (from memory).
     assert SSB_TWO_TONE_HZ == (400.0, 1800.0)
     s = two_tone(1.0, FS, peak_dbfs=-6.0, ramp_s=0.0)
     a400 = _amplitude_at(s.samples, FS, 400.0)
@@ -71,7 +71,7 @@ def test_two_tone_default_is_47_cfr_2_1049_pair():
     # The two largest spectral lines are exactly these two.
     spec = np.abs(np.fft.rfft(s.samples))
     assert sorted(np.argsort(spec)[-2:].tolist()) == [400, 1800]
-    # Envelope PAPR of a two-tone signal is 3.01 dB (PEP = 2 × average; trade-facts §3.3).
+    # Envelope PAPR of a two-tone signal is 3.01 dB (PEP = 2 × average; analytic).
     # Signal crest factor: peak 2a, RMS a → 20·log10(2) = 6.02 dB (analytic).
     assert s.crest_factor_db == pytest.approx(6.02, abs=0.01)
 

@@ -6,9 +6,10 @@ first use (PEP 562 module ``__getattr__``), so the command line starts quickly.
 
 Recordings
     :func:`analyze_file`, :func:`analyze_signal` -> :class:`AnalysisResult`;
+    :func:`measure_recording`, :class:`RecordingAccumulator` -> the measurement results;
     :func:`read_audio`, :func:`audio_info`, :func:`write_audio`.
 Measurements (streaming accumulators and one-shot functions)
-    :func:`measure_levels`, :func:`measure_clipping`, :func:`analyze_spectrum`,
+    :func:`measure_levels`, :func:`measure_clipping`, :class:`LongTermSpectrumAccumulator`,
     :func:`occupied_bandwidth`, :func:`passband_edges`, :func:`detect_hum`, :func:`measure_voice`.
 Intelligibility (ANSI S3.5-1997, Taal et al. 2011)
     :func:`sii`, :func:`band_gains_db`, :func:`channel_sii`, :func:`sii_vs_channel_snr`,
@@ -18,6 +19,8 @@ Synthesis and test signals
     :func:`reference_tone`, :func:`stepped_tones`, noise generators.
 Chain response
     :func:`measure_response` -> ``ResponseResult``.
+Design bench
+    :func:`read_chain` -> ``Chain``; :func:`evaluate_chain`, :func:`compare_chains`, :func:`sweep_cutoffs`.
 """
 
 from __future__ import annotations
@@ -49,15 +52,17 @@ _LAZY = {
     "LevelsAccumulator": ("voiceband.measurement.levels", "LevelsAccumulator"),
     "measure_clipping": ("voiceband.measurement.clipping", "measure_clipping"),
     "ClippingAccumulator": ("voiceband.measurement.clipping", "ClippingAccumulator"),
-    "analyze_spectrum": ("voiceband.measurement.spectrum", "analyze_spectrum"),
-    "SpectralAccumulator": ("voiceband.measurement.spectrum", "SpectralAccumulator"),
-    "third_octave_bands": ("voiceband.measurement.spectrum", "third_octave_bands"),
+    "measure_recording": ("voiceband.analysis", "measure_recording"),
+    "RecordingAccumulator": ("voiceband.analysis", "RecordingAccumulator"),
+    "LongTermSpectrumAccumulator": ("voiceband.measurement.spectrum", "LongTermSpectrumAccumulator"),
+    "third_octave_bands": ("voiceband.bands", "third_octave_bands"),
     "occupied_bandwidth": ("voiceband.measurement.bandwidth", "occupied_bandwidth"),
     "passband_edges": ("voiceband.measurement.bandwidth", "passband_edges"),
-    "detect_hum": ("voiceband.measurement.activity", "detect_hum"),
+    "detect_hum": ("voiceband.measurement.hum", "detect_hum"),
     "measure_activity": ("voiceband.measurement.activity", "measure_activity"),
     "measure_voice": ("voiceband.measurement.voice", "measure_voice"),
     "sii": ("voiceband.intelligibility", "sii"),
+    "sii_index": ("voiceband.intelligibility", "sii_index"),
     "band_gains_db": ("voiceband.intelligibility", "band_gains_db"),
     "channel_sii": ("voiceband.intelligibility", "channel_sii"),
     "sii_vs_channel_snr": ("voiceband.intelligibility", "sii_vs_channel_snr"),
@@ -76,6 +81,10 @@ _LAZY = {
     "mains_hum": ("voiceband.synth", "mains_hum"),
     "static_crashes": ("voiceband.synth", "static_crashes"),
     "measure_response": ("voiceband.response", "measure_response"),
+    "read_chain": ("voiceband.chain", "read_chain"),
+    "evaluate_chain": ("voiceband.design.evaluate", "evaluate_chain"),
+    "compare_chains": ("voiceband.design.compare", "compare_chains"),
+    "sweep_cutoffs": ("voiceband.design.sweep", "sweep_cutoffs"),
 }
 
 __all__ = [

@@ -1,71 +1,191 @@
-"""Orchestration only: one recording file -> :class:`~voiceband.results.AnalysisResult`.
+"""Orchestration: one recording -> :class:`~voiceband.results.AnalysisResult`.
 
-The file is read once, in blocks (:func:`voiceband.audio.blocks`); each block goes to the
-streaming accumulators (levels, clipping, spectral/activity); their results are combined
-into the report sections. No measurement is computed here.
+This is the one place that fans the blocks of a recording out to the streaming
+accumulators and combines their results:
+
+- :class:`~voiceband.measurement.levels.LevelsAccumulator` (levels) and
+  :class:`~voiceband.measurement.clipping.ClippingAccumulator` (clipping) see every block;
+- :class:`~voiceband.measurement.activity.ActivityAccumulator` frames it and sorts the frames
+  by level; its frames go to :class:`~voiceband.measurement.spectrum.LongTermSpectrumAccumulator`
+  and its float32 copy of the block to the hum accumulator and the F0 reservoir
+  (:mod:`voiceband.measurement.voice`);
+- at the end the speech/pause split decides the spectra, from which the occupied bandwidth
+  and passband edges (:mod:`voiceband.measurement.bandwidth`) and the SII
+  (:mod:`voiceband.intelligibility`) follow.
+
+:class:`RecordingAccumulator` keeps the streaming contract of DEVELOPERS.md (any block
+lengths, the same result; memory independent of the length) and returns the measurement
+results as :class:`Measurements`; :func:`analyze_file` and :func:`analyze_signal` turn them
+into the report sections (each section's ``of``) and findings (:mod:`voiceband.findings`).
+No measurement is computed here.
 """
 
 from __future__ import annotations
 
 import math
 import os
-from typing import Callable, Optional, Union
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Callable, Optional, Union
 
 import numpy as np
 
 from . import audio
-from .errors import SignalValueError
+from .errors import MeasurementError, SignalValueError
 from .results import (
     AnalysisResult,
-    ClipEventRecord,
     ClippingSection,
-    EdgesRecord,
-    Finding,
-    HumRecord,
     InputInfo,
     LevelsSection,
     NoiseSection,
-    OccupiedBandwidthRecord,
     SpectrumSection,
     VoiceSection,
+    finite,
 )
 
-__all__ = ["analyze_file", "analyze_signal", "MIN_DURATION_S", "MAX_LISTED_CLIP_EVENTS"]
+__all__ = [
+    "analyze_file",
+    "analyze_signal",
+    "measure_recording",
+    "Measurements",
+    "RecordingAccumulator",
+    "MIN_DURATION_S",
+    "MAX_LISTED_CLIP_EVENTS",
+    "OBW_SPAN_LOW_HZ",
+]
 
 #: Shortest recording analysed (s): one long-term-spectrum frame needs about 0.1 s.
 MIN_DURATION_S = 0.25
 #: Clip events listed one by one in the result (all are counted).
 MAX_LISTED_CLIP_EVENTS = 1000
+#: Low end of the span the occupied bandwidth is taken over (Hz); the high end is fs/2.
+OBW_SPAN_LOW_HZ = 20.0
+
+if TYPE_CHECKING:  # typing only: the accumulators are imported when a pipeline is made
+    from .measurement.activity import ActivityResult
+    from .measurement.hum import HumResult
+    from .measurement.bandwidth import OccupiedBandwidth, PassbandEdges
+    from .measurement.clipping import ClippingResult
+    from .measurement.levels import LevelsResult
+    from .measurement.spectrum import SpectrumResult
+    from .measurement.voice import VoiceResult
 
 ProgressFn = Callable[[int, int], None]
 
 
-def _finite(v: Optional[float]) -> Optional[float]:
-    if v is None:
-        return None
-    v = float(v)
-    return v if math.isfinite(v) else None
+@dataclass(frozen=True)
+class Measurements:
+    """The measurement results of one recording, before they become report sections.
+
+    Attributes
+    ----------
+    levels : LevelsResult
+    clipping : ClippingResult
+    activity : ActivityResult
+        Speech/pause classification and noise floor.
+    spectrum : SpectrumResult or None
+        ``None`` when the recording is shorter than one analysis frame.
+    occupied_bandwidth : OccupiedBandwidth or None
+        Of the speech PSD over 20 Hz ... fs/2; ``None`` without speech power.
+    edges : PassbandEdges or None
+        Estimated passband edges; ``None`` without a speech spectrum, or for a steady
+        signal (no pauses found: noise, tones), which is not speech, so comparing it with
+        a reference speech spectrum would say nothing about the chain.
+    hum : HumResult or None
+        Mains hum, ``None`` when none was found; its level is referred to the active speech
+        level (ITU-T P.56), or to the speech frames' RMS level when there is none.
+    hum_window_count : int
+        Hum analysis windows seen; 0 means the recording was too short to look for hum.
+    voice : VoiceResult
+        Talker F0 range.
+    """
+
+    levels: LevelsResult
+    clipping: ClippingResult
+    activity: ActivityResult
+    spectrum: Optional[SpectrumResult]
+    occupied_bandwidth: Optional[OccupiedBandwidth]
+    edges: Optional[PassbandEdges]
+    hum: Optional[HumResult]
+    hum_window_count: int
+    voice: VoiceResult
 
 
-class _Pipeline:
-    """The accumulators one analysis feeds, block by block."""
+class RecordingAccumulator:
+    """Every accumulator one analysis feeds, block by block (see the module docstring).
 
-    def __init__(self, sample_rate_hz: int):
+    Parameters
+    ----------
+    sample_rate_hz : float
+        Sample rate (Hz).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> acc = RecordingAccumulator(8000)
+    >>> acc.update(0.5 * np.sin(2 * np.pi * 1000 * np.arange(8000) / 8000))
+    >>> round(acc.result().levels.peak_dbfs, 2)
+    -6.02
+    """
+
+    def __init__(self, sample_rate_hz: float):
+        from .measurement.activity import ActivityAccumulator
+        from .measurement.hum import HumAccumulator
         from .measurement.clipping import ClippingAccumulator
         from .measurement.levels import LevelsAccumulator
-        from .measurement.spectrum import SpectralAccumulator
+        from .measurement.spectrum import LongTermSpectrumAccumulator
+        from .measurement.voice import VoiceReservoir
 
-        self.fs = sample_rate_hz
+        self.activity = ActivityAccumulator(sample_rate_hz)  # checks the rate
+        fs = self.activity.sample_rate_hz
+        self.sample_rate_hz = fs
         self.levels = LevelsAccumulator(sample_rate_hz)
         self.clipping = ClippingAccumulator(sample_rate_hz)
-        self.spectral = SpectralAccumulator(sample_rate_hz)
+        self.spectrum = LongTermSpectrumAccumulator(fs, self.activity.nfft)
+        self.hum = HumAccumulator(fs)
+        self.voice = VoiceReservoir(fs)
         self.samples = 0
 
     def update(self, block: np.ndarray) -> None:
-        self.levels.update(block)  # raises SignalValueError on NaN/Inf before anything else sees the block
+        """Add the next block of samples (1-D, native scale, any length >= 1)."""
+        self.levels.update(block)  # raises SignalValueError on a bad block before anything else sees it
         self.clipping.update(block)
-        self.spectral.update(block)
-        self.samples += block.size
+        frames, bins, first, x32 = self.activity.update_frames(block)
+        self.spectrum.update_frames(frames, bins, first)
+        self.hum.update(x32)
+        self.voice.update(x32)
+        self.samples += len(block)
+
+    def result(self) -> Measurements:
+        """Everything measured so far (does not change the accumulator)."""
+        from .measurement.activity import classify_level_bins
+        from .measurement.bandwidth import occupied_bandwidth, passband_edges
+
+        lv = self.levels.result()
+        act = self.activity.result()
+        active = finite(lv.active_level_dbfs)
+        hum = self.hum.result(reference_level_dbfs=active if active is not None else act.speech_level_dbfs)
+        voice = self.voice.result(min_level_dbfs=act.speech_threshold_dbfs)
+        spectrum = obw = edges = None
+        if act.frame_count > 0:
+            speech_bins, pause_bins, _ = classify_level_bins(self.activity.counts)
+            spectrum = self.spectrum.result(speech_bins, pause_bins)
+            if spectrum.speech_band_db is not None:
+                try:
+                    obw = occupied_bandwidth(spectrum.speech_psd_fs2_per_hz, spectrum.freqs_hz,
+                                             span_hz=(OBW_SPAN_LOW_HZ, self.sample_rate_hz / 2.0))
+                except MeasurementError:
+                    obw = None
+                if act.noise_mode_dbfs is not None:  # not a steady signal
+                    edges = passband_edges(spectrum.speech_levels, noise=spectrum.noise_levels, reference="auto")
+                    spectrum = spectrum.within_passband(edges.low_hz, edges.high_hz)
+        return Measurements(lv, self.clipping.result(), act, spectrum, obw, edges, hum, self.hum.window_count, voice)
+
+
+def measure_recording(x: np.ndarray, sample_rate_hz: float) -> Measurements:
+    """The measurement results of a whole signal (one pass of :class:`RecordingAccumulator`)."""
+    acc = RecordingAccumulator(sample_rate_hz)
+    acc.update(x)
+    return acc.result()
 
 
 def analyze_file(
@@ -97,7 +217,7 @@ def analyze_file(
             f"'{ai.path}' is too short to analyse ({ai.frames} samples, {ai.duration_s:.3f} s); "
             f"voiceband needs at least {MIN_DURATION_S} s."
         )
-    pipe = _Pipeline(ai.sample_rate_hz)
+    pipe = RecordingAccumulator(ai.sample_rate_hz)
     for block in audio.blocks(ai.path, channel=channel, block_frames=block_frames, audio_info=ai):
         pipe.update(block)
         if progress is not None:
@@ -127,7 +247,7 @@ def analyze_signal(samples: np.ndarray, sample_rate_hz: int, *, name: str = "<si
         raise SignalValueError(f"sample_rate_hz must be 8000–192000 Hz; got {sample_rate_hz}.")
     if x.size < int(MIN_DURATION_S * fs):
         raise SignalValueError(f"the signal is too short to analyse ({x.size} samples); voiceband needs at least {MIN_DURATION_S} s.")
-    pipe = _Pipeline(fs)
+    pipe = RecordingAccumulator(fs)
     step = audio.DEFAULT_BLOCK_FRAMES
     for i in range(0, x.size, step):
         pipe.update(x[i:i + step])
@@ -135,117 +255,29 @@ def analyze_signal(samples: np.ndarray, sample_rate_hz: int, *, name: str = "<si
     return _combine(info, pipe)
 
 
-def _combine(info: InputInfo, pipe: _Pipeline) -> AnalysisResult:
+def _combine(info: InputInfo, pipe: RecordingAccumulator) -> AnalysisResult:
     from . import __version__
-    from .measurement.activity import snr_db
+    from .findings import findings_for
 
-    lv = pipe.levels.result()
-    cl = pipe.clipping.result()
-    silent = not math.isfinite(lv.peak_dbfs)
-    active = _finite(lv.active_level_dbfs)
-    sp = pipe.spectral.result(active_level_dbfs=active)
-
-    levels = LevelsSection(
-        peak_dbfs=_finite(lv.peak_dbfs),
-        true_peak_dbtp=_finite(lv.true_peak_dbtp),
-        rms_dbfs=_finite(lv.rms_dbfs),
-        active_level_dbfs=active,
-        activity_factor=None if silent else _finite(lv.activity_factor),
-        crest_factor_db=_finite(lv.crest_factor_db),
-        dc_offset=None if silent else _finite(lv.dc_offset),
-    )
-    events = tuple(ClipEventRecord(float(e.start_s), float(e.duration_s)) for e in cl.events[:MAX_LISTED_CLIP_EVENTS])
-    clipping = ClippingSection(
-        clip_level=_finite(cl.clip_level),
-        clipped_samples=int(cl.clipped_samples),
-        clipped_fraction=float(cl.clipped_fraction),
-        event_count=int(cl.event_count),
-        events=events,
-        events_listed=len(events),
-    )
-
-    act = sp.activity
-    floor = None if silent else _finite(act.noise_floor_dbfs)
-    hum = None
-    if sp.hum is not None and not silent:
-        hum = HumRecord(
-            fundamental_hz=float(sp.hum.fundamental_hz),
-            level_db_re_speech=_finite(sp.hum.level_db_re_speech),
-            level_dbfs=_finite(sp.hum.level_dbfs),
-            harmonics_hz=tuple(float(h) for h in sp.hum.harmonics_hz),
-        )
-    noise = NoiseSection(
-        floor_dbfs=floor,
-        snr_db=_finite(snr_db(active, floor)) if floor is not None else None,
-        hum=hum,
-        speech_fraction=None if silent else _finite(act.speech_fraction),
-    )
-
-    s = sp.spectrum
-    bands = tuple(float(b) for b in s.bands_hz) if s is not None else ()
-
-    def band_tuple(arr) -> tuple:
-        if arr is None or silent:
-            return tuple(None for _ in bands)
-        return tuple(_finite(v) for v in arr)
-
-    e = sp.edges
-    edges = EdgesRecord(
-        low=_finite(e.low_hz) if e is not None else None,
-        high=_finite(e.high_hz) if e is not None else None,
-        criterion_db=-(e.drop_db if e is not None else 10.0),
-        method=(f"measured speech spectrum minus the {e.reference} reference speech spectrum, "
-                f"{e.drop_db:g} dB below the passband level" if e is not None else
-                "not estimated (no speech spectrum with pauses found)"),
-        lowest_band_hz=_finite(e.lowest_band_hz) if e is not None else None,
-        highest_band_hz=_finite(e.highest_band_hz) if e is not None else None,
-    )
-    ob = sp.occupied_bandwidth
-    obw = OccupiedBandwidthRecord(
-        fraction=float(ob.fraction) if ob is not None else 0.99,
-        low_hz=_finite(ob.low_hz) if ob is not None else None,
-        high_hz=_finite(ob.high_hz) if ob is not None else None,
-        width_hz=_finite(ob.width_hz) if ob is not None else None,
-        span_low_hz=_finite(ob.span_low_hz) if ob is not None else None,
-        span_high_hz=_finite(ob.span_high_hz) if ob is not None else None,
-    )
-    tilt = None if (s is None or silent) else _finite(s.tilt_db_per_octave)
-    span = s.tilt_span_hz if s is not None else None
-    tilt_basis = ("slope of one-third-octave band levels vs log2 f"
-                  + (f" over {span[0]:.0f}–{span[1]:.0f} Hz" if span else "")
-                  + "; a PSD slope reads 3.01 dB/octave lower")
-    spectrum = SpectrumSection(
-        bands_hz=bands,
-        speech_band_db=band_tuple(s.speech_band_db if s is not None else None),
-        noise_band_db=band_tuple(s.noise_band_db if s is not None else None),
-        tilt_db_per_octave=tilt,
-        tilt_basis=tilt_basis,
-        edges_hz=edges,
-        occupied_bandwidth=obw,
-        vocal_effort_index=_finite(getattr(e, "effort_index", None)) if e is not None else None,
-    )
-    v = sp.voice
-    voice = VoiceSection(_finite(v.f0_median_hz), _finite(v.f0_p5_hz), _finite(v.f0_p95_hz))
-
-    intel = None
-    extra: list[Finding] = []
-    if not silent and act.pause_frame_count > 0 and act.noise_floor_dbfs is not None and act.noise_floor_dbfs == -math.inf:
-        extra.append(Finding(
-            "pauses_digital_silence", "info",
-            "The pauses are digital silence (a noise gate, or generated audio), so there is no noise floor "
-            "to measure and the SNR is not a finite number."))
+    m = pipe.result()
+    levels = LevelsSection.of(m.levels)
+    silent = levels.peak_dbfs is None
+    noise = NoiseSection.of(m.activity, m.hum, active_level_dbfs=levels.active_level_dbfs, silent=silent)
+    spectrum = SpectrumSection.of(m.spectrum, m.edges, m.occupied_bandwidth, silent=silent)
+    act = m.activity
+    pauses_silent = (not silent and act.pause_frame_count > 0 and act.noise_floor_dbfs is not None
+                     and act.noise_floor_dbfs == -math.inf)
+    intel = sii_error = None
+    s = m.spectrum
     if s is not None and s.speech_band_db is not None and not silent:
         from .intelligibility import recording_intelligibility
 
         try:
-            intel = recording_intelligibility(
-                s.speech_band_db, s.noise_band_db, s.bands_hz
-            )
+            intel = recording_intelligibility(s.speech_levels, s.noise_levels)
         except ValueError as exc:
-            extra.append(Finding("sii_not_measurable", "info", f"The SII could not be computed: {exc}"))
-
-    from .findings import findings_for
-
+            sii_error = str(exc)
+    clipping = ClippingSection.of(m.clipping, max_events=MAX_LISTED_CLIP_EVENTS)
+    voice = VoiceSection.of(m.voice)
     findings = findings_for(
         duration_s=info.duration_s,
         sample_rate_hz=info.sample_rate_hz,
@@ -254,9 +286,10 @@ def _combine(info: InputInfo, pipe: _Pipeline) -> AnalysisResult:
         noise=noise,
         spectrum=spectrum,
         voice=voice,
-        sii=getattr(intel, "sii", None),
-        sii_rating=getattr(intel, "rating", None),
-        extra=tuple(extra),
+        sii=intel.sii if intel is not None else None,
+        sii_rating=intel.rating if intel is not None else None,
+        pauses_digital_silence=pauses_silent,
+        sii_error=sii_error,
     )
     return AnalysisResult(
         input=info,

@@ -14,6 +14,7 @@ from typing import Iterator, Union
 
 import numpy as np
 
+from . import validate
 from .errors import AudioFormatError, AudioInputError, SignalValueError
 from .outputs import atomic_output
 
@@ -25,12 +26,13 @@ __all__ = [
     "blocks",
     "read",
     "write",
+    "encode",
     "Channel",
 ]
 
-#: Lowest and highest sample rates voiceband accepts (Hz).
-MIN_SAMPLE_RATE_HZ = 8000
-MAX_SAMPLE_RATE_HZ = 192000
+#: Lowest and highest sample rates voiceband accepts (Hz): the one range of :mod:`voiceband.validate`.
+MIN_SAMPLE_RATE_HZ = validate.MIN_SAMPLE_RATE_HZ
+MAX_SAMPLE_RATE_HZ = validate.MAX_SAMPLE_RATE_HZ
 #: Default streaming block length in frames (about 5.5 s at 48 kHz).
 DEFAULT_BLOCK_FRAMES = 1 << 18
 
@@ -99,11 +101,13 @@ def info(path: Union[str, os.PathLike]) -> AudioInfo:
         ) from None
     if i.frames <= 0:
         raise AudioFormatError(f"'{p}' contains no audio samples.")
-    if not MIN_SAMPLE_RATE_HZ <= i.samplerate <= MAX_SAMPLE_RATE_HZ:
+    try:
+        validate.sample_rate_hz(i.samplerate)
+    except SignalValueError:
         raise AudioFormatError(
             f"'{p}' has a sample rate of {i.samplerate} Hz; voiceband needs "
             f"{MIN_SAMPLE_RATE_HZ}–{MAX_SAMPLE_RATE_HZ} Hz."
-        )
+        ) from None
     if i.channels < 1:
         raise AudioFormatError(f"'{p}' reports {i.channels} channels.")
     return AudioInfo(
@@ -200,6 +204,21 @@ def read(
     return x, ai.sample_rate_hz
 
 
+def _encoding(path: Path, samples: np.ndarray, sample_rate_hz: int, subtype: str) -> tuple[np.ndarray, str, str]:
+    """Checked samples, soundfile format and subtype for writing ``path``."""
+    x = np.asarray(samples, dtype=np.float64)
+    if not np.all(np.isfinite(x)):
+        raise SignalValueError("samples to write contain NaN or Inf.")
+    try:
+        validate.sample_rate_hz(sample_rate_hz)
+    except SignalValueError as exc:
+        raise AudioFormatError(str(exc)) from None
+    fmt = {".wav": "WAV", ".flac": "FLAC", ".ogg": "OGG"}.get(path.suffix.lower())
+    if fmt is None:
+        raise AudioFormatError(f"cannot write '{path.name}': use a .wav, .flac or .ogg file name.")
+    return x, fmt, ("VORBIS" if fmt == "OGG" else subtype)
+
+
 def write(
     path: Union[str, os.PathLike],
     samples: np.ndarray,
@@ -207,26 +226,26 @@ def write(
     *,
     subtype: str = "PCM_16",
     force: bool = False,
+    make_folders: bool = False,
 ) -> Path:
     """Write samples (frames, or frames × channels; full scale ±1.0) atomically.
 
     The format follows the file extension (``.wav``, ``.flac``, ``.ogg``).
     Refuses to overwrite an existing file unless ``force`` is true.
     """
-    x = np.asarray(samples, dtype=np.float64)
-    if not np.all(np.isfinite(x)):
-        raise SignalValueError("samples to write contain NaN or Inf.")
-    if not MIN_SAMPLE_RATE_HZ <= int(sample_rate_hz) <= MAX_SAMPLE_RATE_HZ:
-        raise AudioFormatError(
-            f"sample_rate_hz must be {MIN_SAMPLE_RATE_HZ}–{MAX_SAMPLE_RATE_HZ} Hz, got {sample_rate_hz}."
-        )
-    sf = _sf()
     p = Path(path)
-    fmt = {".wav": "WAV", ".flac": "FLAC", ".ogg": "OGG"}.get(p.suffix.lower())
-    if fmt is None:
-        raise AudioFormatError(f"cannot write '{p.name}': use a .wav, .flac or .ogg file name.")
-    if fmt == "OGG":
-        subtype = "VORBIS"
-    with atomic_output(p, force=force) as tmp:
+    x, fmt, subtype = _encoding(p, samples, sample_rate_hz, subtype)
+    sf = _sf()
+    with atomic_output(p, force=force, make_folders=make_folders) as tmp:
         sf.write(str(tmp), x, int(sample_rate_hz), subtype=subtype, format=fmt)
     return p
+
+
+def encode(name: Union[str, os.PathLike], samples: np.ndarray, sample_rate_hz: int, *, subtype: str = "PCM_16") -> bytes:
+    """The bytes :func:`write` would write to a file called ``name`` (format from its extension); writes nothing."""
+    import io
+
+    x, fmt, subtype = _encoding(Path(name), samples, sample_rate_hz, subtype)
+    buf = io.BytesIO()
+    _sf().write(buf, x, int(sample_rate_hz), subtype=subtype, format=fmt)
+    return buf.getvalue()

@@ -96,7 +96,8 @@ def exact_centre_hz(nominal_hz, *, fraction: int = 3) -> np.ndarray:
     if np.any(~np.isfinite(f)) or np.any(f <= 0):
         raise MeasurementError("nominal band frequencies must be positive and finite (Hz).")
     x = np.round(b * np.log10(f / REFERENCE_HZ) / 0.3)
-    return REFERENCE_HZ * OCTAVE_RATIO ** (x / b)
+    # G**(x/b) written as 10**(3x/(10b)): the same number, rounded once.
+    return REFERENCE_HZ * 10.0 ** (3.0 * x / (10.0 * b))
 
 
 def band_limits_hz(nominal_hz, *, fraction: int = 3) -> tuple[np.ndarray, np.ndarray]:
@@ -110,7 +111,7 @@ def band_limits_hz(nominal_hz, *, fraction: int = 3) -> tuple[np.ndarray, np.nda
     """
     b = _check_fraction(fraction)
     fm = exact_centre_hz(nominal_hz, fraction=b)
-    k = OCTAVE_RATIO ** (1.0 / (2 * b))
+    k = 10.0 ** (3.0 / (20.0 * b))  # G**(1/(2b)), rounded once (10**0.05 for b = 3)
     return fm / k, fm * k
 
 

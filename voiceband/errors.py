@@ -15,6 +15,7 @@ __all__ = [
     "SignalValueError",
     "ChainFileError",
     "OutputExistsError",
+    "OutputPathError",
     "MeasurementError",
 ]
 
@@ -41,6 +42,10 @@ class ChainFileError(VoicebandError, ValueError):
 
 class OutputExistsError(VoicebandError, FileExistsError):
     """An output file already exists and ``force`` was not given."""
+
+
+class OutputPathError(VoicebandError, OSError):
+    """An output cannot be written where asked: no such folder possible, no permission, name too long, an input."""
 
 
 class MeasurementError(VoicebandError, ValueError):

@@ -1,14 +1,20 @@
-"""Plain-language findings drawn from the measurements of one recording.
+"""Plain-language findings of ``voiceband analyze`` and ``voiceband response``, in one table.
 
 Each finding has a stable ``code`` (other tools read it), a severity
-(``info`` < ``warning`` < ``problem``) and one sentence. The thresholds are
-common practice for communications speech unless a source is named; they are
-collected here, once, so a reader can see and change them.
+(``info`` < ``warning`` < ``problem``) and one sentence. :data:`FINDINGS` holds every
+code with its severity and sentence; :data:`THRESHOLDS` the decision thresholds of the
+analysis findings. The thresholds are common practice for communications speech unless a
+source is named; they are collected here, once, so a reader can see and change them.
+
+>>> finding("no_quiet_stretch").severity
+'info'
+>>> finding("snr_low", snr_db=12.0).message
+'SNR is 12.0 dB: noise is clearly audible under the speech.'
 """
 
 from __future__ import annotations
 
-from typing import Optional
+from typing import Any, Optional
 
 from .results import (
     ClippingSection,
@@ -19,22 +25,98 @@ from .results import (
     VoiceSection,
 )
 
-__all__ = ["THRESHOLDS", "findings_for"]
+__all__ = ["THRESHOLDS", "FINDINGS", "finding", "findings_for"]
 
 #: Decision thresholds (common practice unless noted).
 THRESHOLDS = {
-    "true_peak_over_dbtp": -0.1,        # inter-sample overs above this risk converter overload (BS.1770 practice)
+    "true_peak_over_dbtp": -0.1,        # inter-sample overs above this risk converter overload (common practice with BS.1770 true peak)
     "active_level_low_dbfs": -40.0,     # quieter than this: recording level too low to judge noise well
     "dc_offset_warn": 0.01,             # 1 % of full scale (−40 dBFS)
     "snr_problem_db": 15.0,             # below: noise clearly audible under speech
     "snr_warning_db": 25.0,
     "hum_problem_db": -25.0,            # hum level re active speech
     "hum_warning_db": -40.0,
-    "edge_high_low_hz": 2500.0,         # upper edge below this loses consonant cues (ANSI S3.5 band importance, 2–4 kHz)
+    "edge_high_low_hz": 2500.0,         # upper edge below this loses consonant cues (ANSI S3.5-1997 Table 3 band importance, 2–4 kHz)
     "edge_low_high_hz": 400.0,          # lower edge above this makes voices thin
     "short_recording_s": 10.0,          # a long-term spectrum needs some seconds of speech
     "below_full_scale_clip": 0.98,      # clip level below this fraction of FS: clipped before the last gain stage
 }
+
+#: Every finding: code -> (severity, sentence with ``str.format`` fields).  A severity of
+#: ``None`` is decided from the measurement where the finding is made (hum, intelligibility).
+FINDINGS: dict[str, tuple[Optional[str], str]] = {
+    # --- voiceband analyze
+    "digital_silence": ("problem",
+        "The recording is digital silence: every sample is zero, so levels, noise, spectrum and intelligibility are not measurable."),
+    "pauses_digital_silence": ("info",
+        "The pauses are digital silence (a noise gate, or generated audio), so there is no noise floor "
+        "to measure and the SNR is not a finite number."),
+    "sii_not_measurable": ("info", "The SII could not be computed: {error}"),
+    "short_recording": ("info",
+        "The recording lasts {duration_s:.1f} s; long-term spectrum and bandwidth figures are more reliable from 10 s or more of speech."),
+    "narrowband_recording": ("info",
+        "At {sample_rate_hz} Hz the recording holds audio only up to {nyquist_hz:.0f} Hz; nothing above it can be measured."),
+    "clipping_below_full_scale": ("problem",
+        "The audio was clipped at {clip_percent:.1f} % of full scale ({events} events, "
+        "{clipped_percent:.2f} % of samples): it clipped in an earlier stage, such as the "
+        "microphone amplifier, and was turned down afterwards."),
+    "clipping": ("problem", "The audio clips at full scale: {events} events, {clipped_percent:.2f} % of samples."),
+    "true_peak_over": ("warning",
+        "True peak reaches {true_peak_dbtp:+.2f} dBTP: peaks between samples exceed full scale and can overload a converter."),
+    "level_low": ("warning",
+        "Active speech level is only {level_dbfs:.1f} dBFS; raise the recording level so noise figures reflect the transmitter, not the recorder."),
+    "no_active_speech": ("warning", "No active speech was found, so the P.56 active level is not measurable."),
+    "dc_offset": ("warning",
+        "DC offset is {dc_percent:+.2f} % of full scale; a coupling capacitor or high-pass removes it and restores headroom."),
+    "no_pauses": ("info", "No pauses between words were found, so the noise floor, SNR and hum are not measurable."),
+    "snr_low": ("problem", "SNR is {snr_db:.1f} dB: noise is clearly audible under the speech."),
+    "snr_marginal": ("warning", "SNR is {snr_db:.1f} dB: noise is audible in the pauses."),
+    "hum": (None,
+        "Mains hum at {fundamental_hz:.1f} Hz is {level_db:.1f} dB relative to the speech; "
+        "look for a ground loop or poor supply filtering (with mains-powered gear, work only with it unplugged and discharged)."),
+    "upper_edge_low": ("warning",
+        "The audio rolls off at {high_hz:.0f} Hz; speech importance is high from 2 to 4 kHz (ANSI S3.5-1997 Table 3), so consonants suffer."),
+    "lower_edge_high": ("info", "The audio starts at {low_hz:.0f} Hz; voices will sound thin."),
+    "no_band_limit_found": ("info",
+        "The estimated response stays within 10 dB of its passband from {low_hz:g} to "
+        "{high_hz:g} Hz: no band-limiting of the audio was found in that range."),
+    "edges_unknown": ("info", "The passband edges could not be estimated from this recording's spectrum."),
+    "f0_unknown": ("info", "No voiced speech was found, so the talker's fundamental frequency is not measurable."),
+    "highpass_above_f0": ("info",
+        "The lower edge ({low_hz:.0f} Hz) is above the talker's median fundamental ({f0_hz:.0f} Hz): "
+        "the voice loses body, though intelligibility depends little on it."),
+    "intelligibility": (None, "Speech Intelligibility Index {sii:.3f} ({rating})."),
+    # --- voiceband response
+    "sweep_without_markers": ("info",
+        "The sweep has no start and stop markers, so the clock ratio was not measured (1.0 assumed); "
+        "clock drift would show in the phase and group delay."),
+    "offset_not_checked": ("warning", "Too little of the sweep lies in the passband to check for a carrier offset."),
+    "one_marker_found": ("warning",
+        "Only one of the sweep's markers was found in the recording, so the clock ratio was not "
+        "measured (1.0 assumed)."),
+    "carrier_offset_sweep": ("info",
+        "Carrier offset of {offset_hz:+.1f} Hz detected from the sweep's frequency track and removed "
+        "before deconvolution; phase is not reported (the carrier phase is unknown)."),
+    "points_below_noise": ("info", "{count} of {total} frequencies lie below the noise and are left out."),
+    "no_quiet_stretch": ("info", "The recording has no quiet stretch of 0.1 s, so the noise floor and SNR are unknown."),
+    "tones_clock_not_measured": ("info",
+        "The clock ratio was not measured (fewer than three tones spanning half an octave); 1.0 assumed."),
+    "carrier_offset_tones": ("info",
+        "Carrier offset of {offset_hz:+.2f} Hz detected from the tones; each tone was tracked "
+        "at its shifted frequency, and phase is not reported (the carrier phase is unknown)."),
+    "tones_harmonics_not_separable": ("info",
+        "Harmonic distortion is not separable with several tones (their harmonics and intermodulation overlap); use a sweep."),
+}
+
+
+def finding(code: str, severity: Optional[str] = None, **values: Any) -> Finding:
+    """The :class:`~voiceband.results.Finding` ``code`` of :data:`FINDINGS`, its sentence filled
+    with ``values``; ``severity`` is given only for codes whose table severity is ``None``."""
+    table_severity, template = FINDINGS[code]
+    sev = table_severity if table_severity is not None else severity
+    if sev is None:
+        raise ValueError(f"finding '{code}' needs a severity.")
+    return Finding(code, sev, template.format(**values))
 
 
 def findings_for(
@@ -48,54 +130,57 @@ def findings_for(
     voice: VoiceSection,
     sii: Optional[float],
     sii_rating: Optional[str],
-    extra: tuple[Finding, ...] = (),
+    pauses_digital_silence: bool = False,
+    sii_error: Optional[str] = None,
 ) -> tuple[Finding, ...]:
-    """Findings for one recording, most serious first."""
-    T = THRESHOLDS
-    out: list[Finding] = list(extra)
-    add = lambda code, sev, msg: out.append(Finding(code, sev, msg))  # noqa: E731
+    """Findings for one recording, most serious first.
 
+    ``pauses_digital_silence``: pauses were found but hold only zeros (no noise floor);
+    ``sii_error``: why the SII could not be computed, if it could not.
+    """
+    T = THRESHOLDS
+    out: list[Finding] = []
+
+    def add(code: str, severity: Optional[str] = None, **values: Any) -> None:
+        out.append(finding(code, severity, **values))
+
+    if pauses_digital_silence:
+        add("pauses_digital_silence")
+    if sii_error is not None:
+        add("sii_not_measurable", error=sii_error)
     if levels.peak_dbfs is None:
-        add("digital_silence", "problem",
-            "The recording is digital silence: every sample is zero, so levels, noise, spectrum and intelligibility are not measurable.")
+        add("digital_silence")
         return _sorted(out)
 
     if duration_s < T["short_recording_s"]:
-        add("short_recording", "info",
-            f"The recording lasts {duration_s:.1f} s; long-term spectrum and bandwidth figures are more reliable from 10 s or more of speech.")
+        add("short_recording", duration_s=duration_s)
     if sample_rate_hz < 16000:
-        add("narrowband_recording", "info",
-            f"At {sample_rate_hz} Hz the recording holds audio only up to {sample_rate_hz / 2:.0f} Hz; nothing above it can be measured.")
+        add("narrowband_recording", sample_rate_hz=sample_rate_hz, nyquist_hz=sample_rate_hz / 2)
 
     if clipping.event_count > 0:
         lvl = clipping.clip_level
+        clipped_percent = 100 * clipping.clipped_fraction
         if lvl is not None and lvl < T["below_full_scale_clip"]:
-            add("clipping_below_full_scale", "problem",
-                f"The audio was clipped at {100 * lvl:.1f} % of full scale ({clipping.event_count} events, "
-                f"{100 * clipping.clipped_fraction:.2f} % of samples): it clipped in an earlier stage, such as the "
-                "microphone amplifier, and was turned down afterwards.")
+            add("clipping_below_full_scale", clip_percent=100 * lvl, events=clipping.event_count,
+                clipped_percent=clipped_percent)
         else:
-            add("clipping", "problem",
-                f"The audio clips at full scale: {clipping.event_count} events, {100 * clipping.clipped_fraction:.2f} % of samples.")
+            add("clipping", events=clipping.event_count, clipped_percent=clipped_percent)
     if levels.true_peak_dbtp is not None and levels.true_peak_dbtp > T["true_peak_over_dbtp"]:
-        add("true_peak_over", "warning",
-            f"True peak reaches {levels.true_peak_dbtp:+.2f} dBTP: peaks between samples exceed full scale and can overload a converter.")
+        add("true_peak_over", true_peak_dbtp=levels.true_peak_dbtp)
     if levels.active_level_dbfs is not None and levels.active_level_dbfs < T["active_level_low_dbfs"]:
-        add("level_low", "warning",
-            f"Active speech level is only {levels.active_level_dbfs:.1f} dBFS; raise the recording level so noise figures reflect the transmitter, not the recorder.")
+        add("level_low", level_dbfs=levels.active_level_dbfs)
     if levels.activity_factor is not None and levels.active_level_dbfs is None:
-        add("no_active_speech", "warning", "No active speech was found, so the P.56 active level is not measurable.")
+        add("no_active_speech")
     if levels.dc_offset is not None and abs(levels.dc_offset) > T["dc_offset_warn"]:
-        add("dc_offset", "warning",
-            f"DC offset is {100 * levels.dc_offset:+.2f} % of full scale; a coupling capacitor or high-pass removes it and restores headroom.")
+        add("dc_offset", dc_percent=100 * levels.dc_offset)
 
-    if noise.floor_dbfs is None and not any(f.code == "pauses_digital_silence" for f in out):
-        add("no_pauses", "info", "No pauses between words were found, so the noise floor, SNR and hum are not measurable.")
+    if noise.floor_dbfs is None and not pauses_digital_silence:
+        add("no_pauses")
     elif noise.snr_db is not None:
         if noise.snr_db < T["snr_problem_db"]:
-            add("snr_low", "problem", f"SNR is {noise.snr_db:.1f} dB: noise is clearly audible under the speech.")
+            add("snr_low", snr_db=noise.snr_db)
         elif noise.snr_db < T["snr_warning_db"]:
-            add("snr_marginal", "warning", f"SNR is {noise.snr_db:.1f} dB: noise is audible in the pauses.")
+            add("snr_marginal", snr_db=noise.snr_db)
     if noise.hum is not None and noise.hum.level_db_re_speech is not None:
         h = noise.hum
         if h.level_db_re_speech > T["hum_problem_db"]:
@@ -104,32 +189,25 @@ def findings_for(
             sev = "warning"
         else:
             sev = "info"
-        add("hum", sev, f"Mains hum at {h.fundamental_hz:.1f} Hz is {h.level_db_re_speech:.1f} dB relative to the speech; "
-            "look for a ground loop or poor supply filtering (with mains-powered gear, work only with it unplugged and discharged).")
+        add("hum", sev, fundamental_hz=h.fundamental_hz, level_db=h.level_db_re_speech)
 
     e = spectrum.edges_hz
     if e.high is not None and e.high < T["edge_high_low_hz"]:
-        add("upper_edge_low", "warning",
-            f"The audio rolls off at {e.high:.0f} Hz; speech importance is high from 2 to 4 kHz (ANSI S3.5-1997 Table 3), so consonants suffer.")
+        add("upper_edge_low", high_hz=e.high)
     if e.low is not None and e.low > T["edge_low_high_hz"]:
-        add("lower_edge_high", "info", f"The audio starts at {e.low:.0f} Hz; voices will sound thin.")
+        add("lower_edge_high", low_hz=e.low)
     if e.low is None and e.high is None:
         if e.lowest_band_hz is not None and e.highest_band_hz is not None:
-            add("no_band_limit_found", "info",
-                f"The estimated response stays within 10 dB of its passband from {e.lowest_band_hz:g} to "
-                f"{e.highest_band_hz:g} Hz: no band-limiting of the audio was found in that range.")
+            add("no_band_limit_found", low_hz=e.lowest_band_hz, high_hz=e.highest_band_hz)
         else:
-            add("edges_unknown", "info", "The passband edges could not be estimated from this recording's spectrum.")
+            add("edges_unknown")
     if voice.f0_median_hz is None:
-        add("f0_unknown", "info", "No voiced speech was found, so the talker's fundamental frequency is not measurable.")
-    elif e.low is not None and voice.f0_median_hz is not None and e.low > voice.f0_median_hz:
-        add("highpass_above_f0", "info",
-            f"The lower edge ({e.low:.0f} Hz) is above the talker's median fundamental ({voice.f0_median_hz:.0f} Hz): "
-            "the voice loses body, though intelligibility depends little on it.")
+        add("f0_unknown")
+    elif e.low is not None and e.low > voice.f0_median_hz:
+        add("highpass_above_f0", low_hz=e.low, f0_hz=voice.f0_median_hz)
     if sii is not None and sii_rating:
         # the rating words carry the SII thresholds (intelligibility.recording.SII_RATING_THRESHOLDS)
-        sev = {"good": "info", "fair": "warning"}.get(sii_rating, "problem")
-        add("intelligibility", sev, f"Speech Intelligibility Index {sii:.3f} ({sii_rating}).")
+        add("intelligibility", {"good": "info", "fair": "warning"}.get(sii_rating, "problem"), sii=sii, rating=sii_rating)
     return _sorted(out)
 
 

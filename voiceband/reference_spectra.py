@@ -32,7 +32,7 @@ Vocal effort
 Louder speech has a flatter spectrum: relative to their 1-2 kHz bands, the Table 3 spectra
 for raised, loud and shouted speech lie 4.3, 10.5 and 19.1 dB lower at 250 Hz than the
 normal one, and the shout spectrum's 500-4000 Hz tilt is -5.5 instead of -8.6 dB/octave
-(spectrum levels; trade notes 5.3).  A reference of the wrong
+(spectrum levels; linear regression of the Table 3 levels on log2 f, computed here).  A reference of the wrong
 effort therefore reads as a tilted chain response.  :func:`effort_band_levels_db` also takes
 a number on the effort scale 0 (normal), 1 (raised), 2 (loud), 3 (shout) and interpolates
 linearly in dB between the two neighbouring tabulated efforts (this module's choice: the
@@ -43,6 +43,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .bands import BandLevels, bands_for_nominal
 from .errors import MeasurementError
 
 __all__ = [
@@ -108,7 +109,11 @@ def _effort_table() -> np.ndarray:
     return _EFFORT_TABLE
 
 
-def effort_band_levels_db(effort) -> tuple[np.ndarray, np.ndarray]:
+def _levels(nominal_hz, band_db) -> BandLevels:
+    return BandLevels(bands_for_nominal(nominal_hz), band_db, "band")
+
+
+def effort_band_levels_db(effort) -> BandLevels:
     """ANSI S3.5-1997 Table 3 speech band levels at a vocal effort, extended to 63 Hz - 16 kHz.
 
     Table 3 spectrum level plus its bandwidth adjustment Delta at 160-8000 Hz; outside that
@@ -125,10 +130,15 @@ def effort_band_levels_db(effort) -> tuple[np.ndarray, np.ndarray]:
 
     Returns
     -------
-    bands_hz : ndarray
-        Nominal band centres 63 ... 16000 Hz (the Byrne et al. 1994 bands), read-only.
-    band_db : ndarray
-        Band levels, dB SPL at 1 m (ANSI S3.5-1997 clause 3.40 condition), read-only.
+    BandLevels
+        Band levels (kind ``"band"``), dB SPL at 1 m (ANSI S3.5-1997 clause 3.40
+        condition), on the nominal centres 63 ... 16000 Hz (the Byrne et al. 1994 bands).
+
+    Examples
+    --------
+    >>> loud = effort_band_levels_db("loud")
+    >>> float(loud.nominal_hz[0]), float(loud.nominal_hz[-1])
+    (63.0, 16000.0)
 
     Raises
     ------
@@ -147,7 +157,7 @@ def effort_band_levels_db(effort) -> tuple[np.ndarray, np.ndarray]:
             raise MeasurementError(
                 f"effort must be one of {', '.join(VOCAL_EFFORTS)} or a number from 0 to 3; got {effort!r}"
             )
-        return BYRNE_1994_BANDS_HZ, table[VOCAL_EFFORTS.index(effort)]
+        return _levels(BYRNE_1994_BANDS_HZ, table[VOCAL_EFFORTS.index(effort)])
     try:
         x = float(effort)
     except (TypeError, ValueError):
@@ -158,10 +168,10 @@ def effort_band_levels_db(effort) -> tuple[np.ndarray, np.ndarray]:
         )
     k = min(int(np.floor(x)), len(VOCAL_EFFORTS) - 2)
     w = x - k
-    return BYRNE_1994_BANDS_HZ, _frozen((1.0 - w) * table[k] + w * table[k + 1])
+    return _levels(BYRNE_1994_BANDS_HZ, (1.0 - w) * table[k] + w * table[k + 1])
 
 
-def reference_band_levels_db(name: str = "byrne1994") -> tuple[np.ndarray, np.ndarray]:
+def reference_band_levels_db(name: str = "byrne1994") -> BandLevels:
     """One-third-octave band levels of a published long-term speech spectrum.
 
     Parameters
@@ -173,10 +183,9 @@ def reference_band_levels_db(name: str = "byrne1994") -> tuple[np.ndarray, np.nd
 
     Returns
     -------
-    bands_hz : ndarray
-        Nominal band centres (Hz), ascending, read-only.
-    band_db : ndarray
-        Band levels (dB SPL in the source's own reference condition), read-only.
+    BandLevels
+        Band levels (kind ``"band"``; dB SPL in the source's own reference condition), on
+        ascending nominal band centres.
 
     Raises
     ------
@@ -184,13 +193,12 @@ def reference_band_levels_db(name: str = "byrne1994") -> tuple[np.ndarray, np.nd
         ``name`` is not one of :data:`REFERENCE_SPECTRA`.
     """
     if name == "byrne1994":
-        return BYRNE_1994_BANDS_HZ, BYRNE_1994_LTASS_BAND_DB
+        return _levels(BYRNE_1994_BANDS_HZ, BYRNE_1994_LTASS_BAND_DB)
     if name == "ansi_s3.5":
         from .intelligibility.tables import band_procedure
 
         table = band_procedure("one-third-octave")
-        band = _frozen(table.speech_spectrum_db["normal"] + table.bandwidth_adjustment_db)
-        return table.centres_hz, band
+        return _levels(table.centres_hz, table.speech_spectrum_db["normal"] + table.bandwidth_adjustment_db)
     if name in EFFORT_REFERENCES:
         return effort_band_levels_db(name[len("ansi_s3.5_"):])
     raise MeasurementError(f"reference spectrum must be one of {', '.join(REFERENCE_SPECTRA)}; got {name!r}")

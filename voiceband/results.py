@@ -3,12 +3,27 @@
 Their nesting and field names are the JSON keys of the analysis report
 (``voiceband/schemas/analysis.schema.json``); units are in the names.
 ``None`` means "not measurable" and is explained by a finding.
+
+Each section is built from its measurement result by one classmethod, ``of`` (the one
+place a measurement's field becomes a report key); the pipeline in :mod:`voiceband.analysis`
+only calls them.  A non-finite number becomes ``None``.
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
-from typing import Any, Optional
+from typing import TYPE_CHECKING, Any, Optional
+
+if TYPE_CHECKING:  # typing only: the report types do not load the measurement modules
+    from .intelligibility.recording import RecordingIntelligibility
+    from .measurement.activity import ActivityResult
+    from .measurement.hum import HumResult
+    from .measurement.bandwidth import OccupiedBandwidth, PassbandEdges
+    from .measurement.clipping import ClippingResult
+    from .measurement.levels import LevelsResult
+    from .measurement.spectrum import SpectrumResult
+    from .measurement.voice import VoiceResult
 
 __all__ = [
     "InputInfo",
@@ -24,10 +39,19 @@ __all__ = [
     "Finding",
     "AnalysisResult",
     "SEVERITIES",
+    "finite",
 ]
 
 #: Finding severities, from least to most serious.
 SEVERITIES = ("info", "warning", "problem")
+
+
+def finite(v: Any) -> Optional[float]:
+    """``float(v)``, or ``None`` for ``None``, NaN and +-Inf ("not measurable")."""
+    if v is None:
+        return None
+    v = float(v)
+    return v if math.isfinite(v) else None
 
 
 @dataclass(frozen=True)
@@ -53,6 +77,21 @@ class LevelsSection:
     crest_factor_db: Optional[float]
     dc_offset: Optional[float]
 
+    @classmethod
+    def of(cls, lv: LevelsResult) -> "LevelsSection":
+        """From a :class:`~voiceband.measurement.levels.LevelsResult`; digital silence has no
+        activity factor or DC offset."""
+        silent = finite(lv.peak_dbfs) is None
+        return cls(
+            peak_dbfs=finite(lv.peak_dbfs),
+            true_peak_dbtp=finite(lv.true_peak_dbtp),
+            rms_dbfs=finite(lv.rms_dbfs),
+            active_level_dbfs=finite(lv.active_level_dbfs),
+            activity_factor=None if silent else finite(lv.activity_factor),
+            crest_factor_db=finite(lv.crest_factor_db),
+            dc_offset=None if silent else finite(lv.dc_offset),
+        )
+
 
 @dataclass(frozen=True)
 class ClipEventRecord:
@@ -69,6 +108,20 @@ class ClippingSection:
     events: tuple[ClipEventRecord, ...]
     events_listed: int = 0
 
+    @classmethod
+    def of(cls, cl: ClippingResult, *, max_events: int) -> "ClippingSection":
+        """From a :class:`~voiceband.measurement.clipping.ClippingResult`, listing at most
+        ``max_events`` events (all are counted)."""
+        events = tuple(ClipEventRecord(float(e.start_s), float(e.duration_s)) for e in cl.events[:max_events])
+        return cls(
+            clip_level=finite(cl.clip_level),
+            clipped_samples=int(cl.clipped_samples),
+            clipped_fraction=float(cl.clipped_fraction),
+            event_count=int(cl.event_count),
+            events=events,
+            events_listed=len(events),
+        )
+
 
 @dataclass(frozen=True)
 class HumRecord:
@@ -77,6 +130,16 @@ class HumRecord:
     level_dbfs: Optional[float] = None
     harmonics_hz: tuple[float, ...] = ()
 
+    @classmethod
+    def of(cls, hum: HumResult) -> "HumRecord":
+        """From a :class:`~voiceband.measurement.hum.HumResult`."""
+        return cls(
+            fundamental_hz=float(hum.fundamental_hz),
+            level_db_re_speech=finite(hum.level_db_re_speech),
+            level_dbfs=finite(hum.level_dbfs),
+            harmonics_hz=tuple(float(h) for h in hum.harmonics_hz),
+        )
+
 
 @dataclass(frozen=True)
 class NoiseSection:
@@ -84,6 +147,20 @@ class NoiseSection:
     snr_db: Optional[float]
     hum: Optional[HumRecord]
     speech_fraction: Optional[float] = None
+
+    @classmethod
+    def of(cls, activity: ActivityResult, hum: Optional[HumResult], *, active_level_dbfs: Optional[float], silent: bool) -> "NoiseSection":
+        """From an :class:`~voiceband.measurement.activity.ActivityResult` and the hum found
+        (or ``None``); the SNR is the active speech level minus the noise floor."""
+        from .measurement.activity import snr_db
+
+        floor = None if silent else finite(activity.noise_floor_dbfs)
+        return cls(
+            floor_dbfs=floor,
+            snr_db=finite(snr_db(active_level_dbfs, floor)) if floor is not None else None,
+            hum=HumRecord.of(hum) if hum is not None and not silent else None,
+            speech_fraction=None if silent else finite(activity.speech_fraction),
+        )
 
 
 @dataclass(frozen=True)
@@ -95,6 +172,21 @@ class EdgesRecord:
     lowest_band_hz: Optional[float] = None
     highest_band_hz: Optional[float] = None
 
+    @classmethod
+    def of(cls, e: Optional[PassbandEdges]) -> "EdgesRecord":
+        """From the :class:`~voiceband.measurement.bandwidth.PassbandEdges` estimate, or ``None`` (not estimated)."""
+        if e is None:
+            return cls(None, None, -10.0, "not estimated (no speech spectrum with pauses found)")
+        return cls(
+            low=finite(e.low_hz),
+            high=finite(e.high_hz),
+            criterion_db=-e.drop_db,
+            method=(f"measured speech spectrum minus the {e.reference} reference speech spectrum, "
+                    f"{e.drop_db:g} dB below the passband level"),
+            lowest_band_hz=finite(e.lowest_band_hz),
+            highest_band_hz=finite(e.highest_band_hz),
+        )
+
 
 @dataclass(frozen=True)
 class OccupiedBandwidthRecord:
@@ -104,6 +196,20 @@ class OccupiedBandwidthRecord:
     width_hz: Optional[float]
     span_low_hz: Optional[float] = None
     span_high_hz: Optional[float] = None
+
+    @classmethod
+    def of(cls, ob: Optional[OccupiedBandwidth]) -> "OccupiedBandwidthRecord":
+        """From an :class:`~voiceband.measurement.bandwidth.OccupiedBandwidth`, or ``None`` (not measurable)."""
+        if ob is None:
+            return cls(0.99, None, None, None)
+        return cls(
+            fraction=float(ob.fraction),
+            low_hz=finite(ob.low_hz),
+            high_hz=finite(ob.high_hz),
+            width_hz=finite(ob.width_hz),
+            span_low_hz=finite(ob.span_low_hz),
+            span_high_hz=finite(ob.span_high_hz),
+        )
 
 
 @dataclass(frozen=True)
@@ -119,6 +225,34 @@ class SpectrumSection:
     #: on a continuous scale 0 normal, 1 raised, 2 loud, 3 shout; None when not fitted.
     vocal_effort_index: Optional[float] = None
 
+    @classmethod
+    def of(
+        cls, s: Optional[SpectrumResult], edges: Optional[PassbandEdges], obw: Optional[OccupiedBandwidth], *, silent: bool
+    ) -> "SpectrumSection":
+        """From a :class:`~voiceband.measurement.spectrum.SpectrumResult` (or ``None`` when the
+        recording is shorter than one frame), the passband edges and the occupied bandwidth;
+        digital silence has no band levels or tilt."""
+        bands = tuple(float(b) for b in s.bands_hz) if s is not None else ()
+
+        def band_tuple(arr: Any) -> tuple:
+            if arr is None or silent:
+                return tuple(None for _ in bands)
+            return tuple(finite(v) for v in arr)
+
+        span = s.tilt_span_hz if s is not None else None
+        return cls(
+            bands_hz=bands,
+            speech_band_db=band_tuple(s.speech_band_db if s is not None else None),
+            noise_band_db=band_tuple(s.noise_band_db if s is not None else None),
+            tilt_db_per_octave=None if (s is None or silent) else finite(s.tilt_db_per_octave),
+            tilt_basis=("slope of one-third-octave band levels vs log2 f"
+                        + (f" over {span[0]:.0f}–{span[1]:.0f} Hz" if span else "")
+                        + "; a PSD slope reads 3.01 dB/octave lower"),
+            edges_hz=EdgesRecord.of(edges),
+            occupied_bandwidth=OccupiedBandwidthRecord.of(obw),
+            vocal_effort_index=finite(edges.effort_index) if edges is not None else None,
+        )
+
 
 @dataclass(frozen=True)
 class VoiceSection:
@@ -126,9 +260,18 @@ class VoiceSection:
     f0_p5_hz: Optional[float]
     f0_p95_hz: Optional[float]
 
+    @classmethod
+    def of(cls, v: VoiceResult) -> "VoiceSection":
+        """From a :class:`~voiceband.measurement.voice.VoiceResult`."""
+        return cls(finite(v.f0_median_hz), finite(v.f0_p5_hz), finite(v.f0_p95_hz))
+
 
 @dataclass(frozen=True)
 class Finding:
+    """One plain-language finding: a stable ``code`` (other tools read it), a severity from
+    :data:`SEVERITIES` and one sentence.  Analyze and response both report these; the
+    table of codes is :data:`voiceband.findings.FINDINGS`."""
+
     code: str
     severity: str  # one of SEVERITIES
     message: str
@@ -144,6 +287,6 @@ class AnalysisResult:
     noise: NoiseSection
     spectrum: SpectrumSection
     voice: VoiceSection
-    intelligibility: Optional[Any]
+    intelligibility: Optional[RecordingIntelligibility]
     findings: tuple[Finding, ...] = field(default_factory=tuple)
     voiceband_version: str = ""

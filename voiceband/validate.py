@@ -36,6 +36,7 @@ __all__ = [
     "finite_samples",
     "duration_samples",
     "number",
+    "band_levels_db",
 ]
 
 #: Lowest and highest sample rates (Hz) voiceband reads, analyses and writes.
@@ -90,7 +91,10 @@ def sample_rate_hz(value, *, name: str = "sample_rate_hz") -> int:
     Non-integer rates are refused (no recording format stores one).
     """
     v = number(value, name=name)
-    if v != round(v) or not MIN_SAMPLE_RATE_HZ <= v <= MAX_SAMPLE_RATE_HZ:
+    if v != round(v):
+        raise SignalValueError(
+            f"{name} must be a whole number of hertz ({MIN_SAMPLE_RATE_HZ}–{MAX_SAMPLE_RATE_HZ} Hz); got {_show(value)}.")
+    if not MIN_SAMPLE_RATE_HZ <= v <= MAX_SAMPLE_RATE_HZ:
         raise SignalValueError(
             f"{name} must be {MIN_SAMPLE_RATE_HZ}–{MAX_SAMPLE_RATE_HZ} Hz; got {_show(value)}.")
     return int(v)
@@ -132,3 +136,35 @@ def duration_samples(duration_s, sample_rate_hz: int, *, name: str = "duration_s
     if n < 1:
         raise SignalValueError(f"{name} must be at least one sample ({1 / sample_rate_hz:.3g} s); got {_show(duration_s)}.")
     return n
+
+
+def band_levels_db(values, *, name: str, n_bands: int, procedure: str, minus_inf_ok: bool = True,
+                   scalar_ok: bool = False) -> np.ndarray:
+    """Levels in dB with ``n_bands`` bands on the last axis (any leading batch axes), as float64.
+
+    ``-inf`` (no power) is accepted when ``minus_inf_ok``; NaN and ``+inf`` never are. With
+    ``scalar_ok`` a single number stands for the same level in every band. ``procedure`` names
+    the band set in the message (e.g. ``"one-third-octave"``).
+
+    >>> band_levels_db([1.0, -np.inf], name="speech_db", n_bands=2, procedure="test").tolist()
+    [1.0, -inf]
+    >>> band_levels_db([1.0], name="speech_db", n_bands=2, procedure="octave")
+    Traceback (most recent call last):
+    ...
+    voiceband.errors.SignalValueError: speech_db must have 2 bands on its last axis for the octave procedure; got shape (1,).
+    """
+    try:
+        arr = np.asarray(values, dtype=np.float64)
+    except (TypeError, ValueError):
+        raise SignalValueError(f"{name} must be numbers in dB; got {type(values).__name__}.") from None
+    if arr.ndim == 0 and scalar_ok:
+        arr = np.broadcast_to(arr, (n_bands,))
+    if arr.ndim == 0 or arr.shape[-1] != n_bands:
+        raise SignalValueError(
+            f"{name} must have {n_bands} bands on its last axis for the {procedure} procedure; got shape {arr.shape}.")
+    if minus_inf_ok:
+        if np.any(np.isnan(arr)) or np.any(arr == np.inf):
+            raise SignalValueError(f"{name} contains NaN or +inf; levels must be finite dB or -inf (no power).")
+    elif not np.all(np.isfinite(arr)):
+        raise SignalValueError(f"{name} must be finite dB values.")
+    return arr

@@ -27,7 +27,7 @@ def analyze(
     from ..outputs import check_writable
 
     if json_path not in (None, "-"):
-        check_writable(Path(json_path), force=force)  # refuse before the work, not after
+        check_writable(Path(json_path), force=force, inputs=(file,))  # refuse before the work, not after
     progress = _progress_printer() if json_path != "-" and sys.stderr.isatty() else None
     result = analyze_file(file, channel=channel, progress=progress)
     if json_path != "-":

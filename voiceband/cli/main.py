@@ -27,6 +27,9 @@ _COMMANDS = [
     ("response", "voiceband.cli.response", "response"),
     ("synth", "voiceband.cli.synth", "synth"),
     ("testsignal", "voiceband.cli.testsignal", "testsignal"),
+    ("chain", "voiceband.cli.chain", "chain"),
+    ("compare", "voiceband.cli.compare", "compare"),
+    ("sweep", "voiceband.cli.sweep", "sweep"),
 ]
 
 def _version(value: bool) -> None:

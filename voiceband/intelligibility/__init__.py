@@ -40,12 +40,13 @@ from .recording import (
     recording_intelligibility,
     sii_rating,
 )
-from .sii import SIIResult, band_importance, sii
+from .sii import SIIResult, band_importance, sii, sii_index
 from .stoi import stoi
 from .tables import IMPORTANCE_NAMES, PROCEDURES, VOCAL_EFFORTS, BandProcedure, band_procedure
 
 __all__ = [
     "sii",
+    "sii_index",
     "SIIResult",
     "band_importance",
     "band_procedure",

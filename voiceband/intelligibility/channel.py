@@ -29,6 +29,7 @@ from typing import Union
 
 import numpy as np
 
+from .. import validate
 from ..errors import MeasurementError, SignalValueError
 from .inputs import standard_speech_spectrum
 from .sii import SIIResult, sii
@@ -118,11 +119,7 @@ def channel_noise_spectrum(
     """
     table = band_procedure(procedure)
     n = table.n_bands
-    speech = np.asarray(speech_db, dtype=np.float64)
-    if speech.ndim == 0 or speech.shape[-1] != n:
-        raise SignalValueError(f"speech_db must have {n} bands on its last axis; got shape {speech.shape}.")
-    if np.any(np.isnan(speech)) or np.any(speech == np.inf):
-        raise SignalValueError("speech_db contains NaN or +inf.")
+    speech = validate.band_levels_db(speech_db, name="speech_db", n_bands=n, procedure=procedure)
     snr = np.asarray(snr_db, dtype=np.float64)
     if not np.all(np.isfinite(snr)):
         raise SignalValueError("snr_db must be finite dB values.")
@@ -130,8 +127,8 @@ def channel_noise_spectrum(
     if noise_shape_db is None:
         shape = np.zeros(n)
     else:
-        shape = np.asarray(noise_shape_db, dtype=np.float64)
-        if shape.shape != (n,) or np.any(np.isnan(shape)) or np.any(shape == np.inf):
+        shape = validate.band_levels_db(noise_shape_db, name="noise_shape_db", n_bands=n, procedure=procedure)
+        if shape.ndim != 1:
             raise SignalValueError(f"noise_shape_db must be {n} finite dB values (or -inf); got shape {shape.shape}.")
 
     width_hz = table.upper_hz - table.lower_hz
@@ -162,19 +159,10 @@ def _channel_speech(speech_db, band_gains_db, procedure: str) -> np.ndarray:
     if speech_db is None:
         speech = standard_speech_spectrum("normal", procedure=procedure)
     else:
-        speech = np.asarray(speech_db, dtype=np.float64)
-        if speech.ndim == 0 or speech.shape[-1] != table.n_bands:
-            raise SignalValueError(
-                f"speech_db must have {table.n_bands} bands on its last axis; got shape {speech.shape}."
-            )
+        speech = validate.band_levels_db(speech_db, name="speech_db", n_bands=table.n_bands, procedure=procedure)
     if band_gains_db is not None:
-        gains = np.asarray(band_gains_db, dtype=np.float64)
-        if gains.ndim == 0 or gains.shape[-1] != table.n_bands:
-            raise SignalValueError(
-                f"band_gains_db must have {table.n_bands} bands on its last axis; got shape {gains.shape}."
-            )
-        if np.any(np.isnan(gains)) or np.any(gains == np.inf):
-            raise SignalValueError("band_gains_db contains NaN or +inf.")
+        gains = validate.band_levels_db(band_gains_db, name="band_gains_db", n_bands=table.n_bands,
+                                        procedure=procedure)
         speech = speech + gains
     return speech
 

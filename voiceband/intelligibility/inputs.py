@@ -19,6 +19,7 @@ from typing import Union
 
 import numpy as np
 
+from .. import validate
 from ..errors import MeasurementError, SignalValueError
 from .tables import (
     BINAURAL_THRESHOLD_ADVANTAGE_DB,
@@ -46,20 +47,6 @@ _APPARENT_SNR_LIMIT_DB = 15.0  # clause 5.2.3.5: apparent SNR limited to +-15 dB
 ArrayLike = Union[float, np.ndarray, list, tuple]
 
 
-def _band_array(values: ArrayLike, name: str, n_bands: int, procedure: str) -> np.ndarray:
-    try:
-        arr = np.asarray(values, dtype=np.float64)
-    except (TypeError, ValueError):
-        raise SignalValueError(f"{name} must be numbers in dB; got {type(values).__name__}.") from None
-    if arr.ndim == 0 or arr.shape[-1] != n_bands:
-        raise SignalValueError(
-            f"{name} must have {n_bands} bands on its last axis for the {procedure} procedure; got shape {arr.shape}."
-        )
-    if np.any(np.isnan(arr)) or np.any(arr == np.inf):
-        raise SignalValueError(f"{name} contains NaN or +inf; levels must be finite dB or -inf (no power).")
-    return arr
-
-
 def band_to_spectrum_level(band_level_db: ArrayLike, *, procedure: str = "one-third-octave") -> np.ndarray:
     """Spectrum level (dB per Hz) from band level (dB, power in the band).
 
@@ -83,14 +70,14 @@ def band_to_spectrum_level(band_level_db: ArrayLike, *, procedure: str = "one-th
     mistake drops the one-third-octave SII of normal speech in quiet from 0.9958 to 0.9042.
     """
     table = band_procedure(procedure)
-    return _band_array(band_level_db, "band_level_db", table.n_bands, procedure) - table.bandwidth_adjustment_db
+    return validate.band_levels_db(band_level_db, name="band_level_db", n_bands=table.n_bands, procedure=procedure) - table.bandwidth_adjustment_db
 
 
 def spectrum_to_band_level(spectrum_level_db: ArrayLike, *, procedure: str = "one-third-octave") -> np.ndarray:
     """Band level (dB, power in the band) from spectrum level (dB per Hz): the inverse of
     :func:`band_to_spectrum_level` (Tables 1-4)."""
     table = band_procedure(procedure)
-    return _band_array(spectrum_level_db, "spectrum_level_db", table.n_bands, procedure) + table.bandwidth_adjustment_db
+    return validate.band_levels_db(spectrum_level_db, name="spectrum_level_db", n_bands=table.n_bands, procedure=procedure) + table.bandwidth_adjustment_db
 
 
 def overall_level_db(spectrum_level_db: ArrayLike, *, procedure: str = "one-third-octave") -> Union[float, np.ndarray]:
@@ -151,7 +138,7 @@ def standard_speech_spectrum(
         raise MeasurementError(f"distance_m must be a positive number of metres; got {distance_m!r}.")
     gain = np.asarray(insertion_gain_db, dtype=np.float64)
     if gain.ndim > 0:
-        gain = _band_array(gain, "insertion_gain_db", table.n_bands, procedure)
+        gain = validate.band_levels_db(gain, name="insertion_gain_db", n_bands=table.n_bands, procedure=procedure)
     elif not np.isfinite(gain):
         raise SignalValueError("insertion_gain_db must be finite dB.")
     return table.speech_spectrum_db[vocal_effort] - 20.0 * np.log10(distance_m) + gain
@@ -195,7 +182,7 @@ def binaural_threshold(threshold_db: Union[ArrayLike, None] = None, *, procedure
         SII procedure.
     """
     table = band_procedure(procedure)
-    base = np.zeros(table.n_bands) if threshold_db is None else _band_array(threshold_db, "threshold_db", table.n_bands, procedure)
+    base = np.zeros(table.n_bands) if threshold_db is None else validate.band_levels_db(threshold_db, name="threshold_db", n_bands=table.n_bands, procedure=procedure)
     if not np.all(np.isfinite(base)):
         raise SignalValueError("threshold_db must be finite dB HL values.")
     return base - BINAURAL_THRESHOLD_ADVANTAGE_DB
@@ -208,14 +195,14 @@ def eardrum_to_free_field(eardrum_level_db: ArrayLike, *, procedure: str = "one-
     Use for speech or noise measured at the eardrum (probe microphone, insert earphones, ear simulator).
     """
     table = band_procedure(procedure)
-    return _band_array(eardrum_level_db, "eardrum_level_db", table.n_bands, procedure) - table.free_field_to_eardrum_db
+    return validate.band_levels_db(eardrum_level_db, name="eardrum_level_db", n_bands=table.n_bands, procedure=procedure) - table.free_field_to_eardrum_db
 
 
 def free_field_to_eardrum(free_field_level_db: ArrayLike, *, procedure: str = "one-third-octave") -> np.ndarray:
     """Eardrum spectrum level from a free-field spectrum level: add the free-field-to-eardrum transfer
     function of Tables 1-4 (the inverse of :func:`eardrum_to_free_field`)."""
     table = band_procedure(procedure)
-    return _band_array(free_field_level_db, "free_field_level_db", table.n_bands, procedure) + table.free_field_to_eardrum_db
+    return validate.band_levels_db(free_field_level_db, name="free_field_level_db", n_bands=table.n_bands, procedure=procedure) + table.free_field_to_eardrum_db
 
 
 def levels_from_mtf(
@@ -251,7 +238,7 @@ def levels_from_mtf(
     """
     table = band_procedure(procedure)
     n = table.n_bands
-    csnsl = _band_array(combined_spectrum_db, "combined_spectrum_db", n, procedure)
+    csnsl = validate.band_levels_db(combined_spectrum_db, name="combined_spectrum_db", n_bands=n, procedure=procedure)
     if not np.all(np.isfinite(csnsl)):
         raise SignalValueError("combined_spectrum_db must be finite dB values.")
     try:

@@ -14,6 +14,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .. import validate
+from ..bands import BandLevels
 from ..errors import MeasurementError, SignalValueError
 from .channel import DEFAULT_CHANNEL_SNR_DB, ChannelSIIPoint, sii_vs_channel_snr
 from .sii import sii
@@ -97,16 +99,12 @@ def sii_rating(index: float) -> str:
     return SII_RATING_THRESHOLDS[-1][0]
 
 
-def _band_levels(values, name: str, n: int) -> np.ndarray:
-    try:
-        arr = np.asarray(values, dtype=np.float64)
-    except (TypeError, ValueError):
-        raise SignalValueError(f"{name} must be numbers in dBFS; got {type(values).__name__}.") from None
-    if arr.shape != (n,):
-        raise SignalValueError(f"{name} must have one level per band centre ({n}); got shape {arr.shape}.")
-    if np.any(np.isnan(arr)) or np.any(arr == np.inf):
-        raise SignalValueError(f"{name} contains NaN or +inf; use -inf for a band with no power.")
-    return arr
+def _band_levels(levels, name: str) -> BandLevels:
+    if not isinstance(levels, BandLevels):
+        raise SignalValueError(f"{name} must be BandLevels (voiceband.bands); got {type(levels).__name__}.")
+    if np.any(levels.levels_db == np.inf):
+        raise SignalValueError(f"{name} contains +inf; use -inf for a band with no power.")
+    return levels.as_band()
 
 
 def _pick_sii_bands(levels: np.ndarray, centres_hz: np.ndarray, sii_centres_hz: np.ndarray) -> np.ndarray:
@@ -120,9 +118,8 @@ def _pick_sii_bands(levels: np.ndarray, centres_hz: np.ndarray, sii_centres_hz: 
 
 
 def recording_intelligibility(
-    speech_band_dbfs,
-    noise_band_dbfs,
-    band_centres_hz,
+    speech: BandLevels,
+    noise: "BandLevels | None" = None,
     *,
     presentation_level_db_spl: float = OVERALL_SPEECH_LEVEL_DB_SPL["normal"],
 ) -> RecordingIntelligibility:
@@ -130,15 +127,13 @@ def recording_intelligibility(
 
     Parameters
     ----------
-    speech_band_dbfs : array_like, shape (n,)
-        Speech one-third-octave **band** levels (power in the band), dBFS, at IEC 61260 nominal centres.
-        ``-inf`` for a band with no power (for example above the Nyquist frequency).
-    noise_band_dbfs : array_like, shape (n,) or None
-        Pause-noise band levels, dBFS, at the same centres; ``None`` when no pause noise could be
-        measured (the SII then uses the standard's "no noise" default, -50 dB per Hz).
-    band_centres_hz : array_like, shape (n,)
-        Nominal centres, Hz, any set (e.g. 25 Hz to 20 kHz). SII bands (160-8000 Hz) that are absent
-        count as having no speech and no noise.
+    speech : BandLevels
+        Speech one-third-octave levels, dBFS (band levels; spectrum levels are converted), on any set
+        of IEC 61260-1 bands (e.g. 25 Hz to 20 kHz); ``-inf`` for a band with no power. SII bands
+        (160-8000 Hz) that are absent count as having no speech and no noise.
+    noise : BandLevels or None
+        Pause-noise levels, dBFS, on the same bands; ``None`` when no pause noise could be measured
+        (the SII then uses the standard's "no noise" default, -50 dB per Hz).
     presentation_level_db_spl : float, keyword-only
         Overall speech level the recording is mapped to, dB SPL (default 62.35, normal effort at 1 m).
 
@@ -149,31 +144,28 @@ def recording_intelligibility(
     Raises
     ------
     voiceband.errors.SignalValueError
-        Mismatched lengths, NaN, non-positive centres.
+        Not BandLevels, noise on other bands than speech, +inf levels.
     voiceband.errors.MeasurementError
         No speech power in any given band, or no speech in any SII band.
 
     Notes
     -----
-    Mapping (stated because the SII depends on absolute level, reference notes section 4):
+    Mapping (stated because the SII depends on absolute level, ANSI S3.5-1997 clauses 3.6 and 4.2):
     offset = presentation level - 10 log10(sum over all given bands of 10^(speech/10)); speech and noise
     band levels in dB SPL = dBFS + offset; spectrum level = band level - delta (Table 3 bandwidth
     adjustment, 15.65 dB at 160 Hz ... 32.65 dB at 8 kHz); then ANSI S3.5-1997 clause 4 with T' = 0 dB HL
     and the average-speech importance of Table 3.
     """
-    try:
-        centres = np.asarray(band_centres_hz, dtype=np.float64)
-    except (TypeError, ValueError):
-        raise SignalValueError("band_centres_hz must be numbers in Hz.") from None
-    if centres.ndim != 1 or centres.size == 0:
-        raise SignalValueError(f"band_centres_hz must be a non-empty 1-D array; got shape {centres.shape}.")
-    if not np.all(np.isfinite(centres)) or np.any(centres <= 0):
-        raise SignalValueError("band_centres_hz must be positive, finite frequencies.")
-    if not (np.isfinite(presentation_level_db_spl)):
-        raise SignalValueError(f"presentation_level_db_spl must be finite; got {presentation_level_db_spl!r}.")
-    n = centres.size
-    speech = _band_levels(speech_band_dbfs, "speech_band_dbfs", n)
-    noise = None if noise_band_dbfs is None else _band_levels(noise_band_dbfs, "noise_band_dbfs", n)
+    speech_bl = _band_levels(speech, "speech")
+    centres = np.asarray(speech_bl.nominal_hz, dtype=np.float64)
+    validate.number(presentation_level_db_spl, name="presentation_level_db_spl", unit="dB SPL")
+    speech = np.asarray(speech_bl.levels_db, dtype=np.float64)
+    if noise is not None:
+        noise_bl = _band_levels(noise, "noise")
+        if noise_bl.nominal_hz.shape != centres.shape or not np.array_equal(noise_bl.nominal_hz, centres):
+            raise SignalValueError(
+                f"noise must be on the bands of speech ({centres.size} bands); got {noise_bl.nominal_hz.size} bands.")
+        noise = np.asarray(noise_bl.levels_db, dtype=np.float64)
 
     with np.errstate(divide="ignore"):
         speech_total_dbfs = 10.0 * np.log10(np.sum(10.0 ** (speech / 10.0)))

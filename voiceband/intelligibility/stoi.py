@@ -30,6 +30,7 @@ from math import gcd
 
 import numpy as np
 
+from .. import validate
 from ..errors import MeasurementError, SignalValueError
 
 __all__ = ["stoi"]
@@ -154,18 +155,13 @@ def stoi(clean, processed, sample_rate_hz: int) -> float:
     time-frequency weighted noisy speech", IEEE Trans. Audio, Speech, Lang. Process. 19(7), 2011,
     Eqs. 1-5.
     """
-    x = np.asarray(clean, dtype=np.float64)
-    y = np.asarray(processed, dtype=np.float64)
-    if x.ndim != 1 or y.ndim != 1:
-        raise SignalValueError(f"clean and processed must be 1-D signals; got shapes {x.shape} and {y.shape}.")
+    x = validate.finite_samples(validate.block(clean, name="clean"), name="clean")
+    y = validate.finite_samples(validate.block(processed, name="processed"), name="processed")
     if x.shape != y.shape:
         raise SignalValueError(
             f"clean and processed must have the same length; got {x.size} and {y.size} samples."
         )
-    if not (np.all(np.isfinite(x)) and np.all(np.isfinite(y))):
-        raise SignalValueError("clean and processed must not contain NaN or infinite samples.")
-    if isinstance(sample_rate_hz, bool) or int(sample_rate_hz) != sample_rate_hz or sample_rate_hz <= 0:
-        raise SignalValueError(f"sample_rate_hz must be a positive whole number of hertz; got {sample_rate_hz!r}.")
+    sample_rate_hz = validate.sample_rate_hz(sample_rate_hz)
     rate = int(sample_rate_hz)
 
     x = _resample(x, rate)

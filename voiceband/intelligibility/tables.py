@@ -1,7 +1,7 @@
 """Published tables of ANSI S3.5-1997 (Speech Intelligibility Index), once, as read-only constants.
 
 Every number here is transcribed from ANSI/ASA S3.5-1997 (R2017, reaffirmed without technical
-change) as cross-read in the project's reference notes (``sii-ansi-s3.5-1997.md``): the ASA working
+change) as cross-read in three open transcriptions: the ASA working
 group S3-79 reference C program, the CRAN ``SII`` package data, and the ``speech-intelligibility-index``
 Python package, which agree digit for digit except where a comment says otherwise.
 
@@ -28,6 +28,7 @@ from typing import Mapping
 
 import numpy as np
 
+from ..bands import band_limits_hz
 from ..errors import MeasurementError
 
 __all__ = [
@@ -218,7 +219,7 @@ _ECB_IMPORTANCE = 0.0588
 # Table 3 -- one-third-octave procedure (18 bands). Columns: centre, bandwidth adjustment,
 # importance, standard speech spectrum level normal/raised/loud/shout, internal noise X,
 # free-field-to-eardrum transfer function. Loud effort at 400 Hz is 43.30 dB (one public
-# transcription has 43.40, a typo per the reference notes).
+# transcription has 43.40, a typo: the other transcriptions agree on 43.30).
 # ---------------------------------------------------------------------------------------------
 _TABLE_3 = np.array([
     # Fc    delta   I       normal  raised  loud   shout   X      FF->ED
@@ -284,7 +285,7 @@ _TABLE_4_LIMITS_HZ = np.array([177.0, 354.0, 707.0, 1414.0, 2828.0, 5657.0, 1131
 
 # Table B.3 -- octave importance for specific speech tests (Annex B).
 # Columns: nonsense-syllables, cid-w22, nu6, drt, short-passages, spin.
-# Caution (reference notes, section 1.4): as transcribed, the nu6 column sums to 0.978 and the cid-w22
+# Caution: as transcribed, the nu6 column sums to 0.978 and the cid-w22
 # column to 0.9978, against about 1.000 for every other column; one value in each is probably a
 # transcription slip that could not be checked against the printed standard.
 _TABLE_B3 = np.array([
@@ -305,15 +306,6 @@ def _efforts(columns: np.ndarray) -> Mapping[str, np.ndarray]:
 
 def _annex_b(table: np.ndarray) -> Mapping[str, np.ndarray]:
     return MappingProxyType({name: _ro(table[:, j]) for j, name in enumerate(_ANNEX_B_NAMES)})
-
-
-def _one_third_octave_limits_hz(centres_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Base-10 one-third-octave band limits (IEC 61260-1): exact mid-band fm = 1000*10**(x/10), limits
-    fm*10**(-1/20) and fm*10**(+1/20); they round to 141, 178, 224, ... 8913 Hz. Table 3 does not print
-    band limits; these are the limits the nominal centres stand for."""
-    x = np.round(10.0 * np.log10(centres_hz / 1000.0))
-    exact = 1000.0 * 10.0 ** (x / 10.0)
-    return exact * 10.0 ** (-0.05), exact * 10.0 ** 0.05
 
 
 def _build() -> dict[str, BandProcedure]:
@@ -349,7 +341,9 @@ def _build() -> dict[str, BandProcedure]:
         spread_of_masking=True,
     )
     to = _TABLE_3
-    to_lower, to_upper = _one_third_octave_limits_hz(to[:, 0])
+    # Table 3 does not print band limits; these are the IEC 61260-1 base-10 limits the nominal
+    # centres stand for (141, 178, 224, ... 8913 Hz).
+    to_lower, to_upper = band_limits_hz(to[:, 0], fraction=3)
     third = BandProcedure(
         name="one-third-octave",
         table="Table 3",

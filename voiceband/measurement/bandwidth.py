@@ -28,6 +28,7 @@ from typing import Optional
 
 import numpy as np
 
+from ..bands import BandLevels, exact_centre_hz
 from ..errors import MeasurementError
 from ..reference_spectra import REFERENCE_SPECTRA, effort_band_levels_db, reference_band_levels_db
 
@@ -223,6 +224,17 @@ def occupied_bandwidth(psd, freqs_hz, *, fraction: float = 0.99, span_hz=None) -
     References
     ----------
     ITU Radio Regulations No. 1.153; Recommendation ITU-R SM.328; 47 CFR 2.202(a).
+
+    Examples
+    --------
+    A flat spectrum 0-4 kHz (1 Hz bins) keeps 0.5 % of its power (20 Hz worth) below the
+    lower edge and 0.5 % above the upper edge:
+
+    >>> import numpy as np
+    >>> f = np.arange(0, 4001.0)
+    >>> obw = occupied_bandwidth(np.ones(f.size), f)
+    >>> round(obw.low_hz, 2), round(obw.high_hz, 2)
+    (19.51, 3980.49)
     """
     fraction = float(fraction)
     if not 0.0 < fraction < 1.0:
@@ -323,25 +335,22 @@ class VocalEffortFit:
     bands_hz: tuple
 
 
-def _exact_centre_hz(nominal_hz: np.ndarray) -> np.ndarray:
-    # IEC 61260-1:2014, base-10 one-third-octave bands: exact mid-band 1000 * 10^(x/10) Hz.
-    x = np.round(10.0 * np.log10(nominal_hz / 1000.0))
-    return 1000.0 * 10.0 ** (x / 10.0)
-
-
-def _check_bands(bands_hz, speech_band_db, noise_band_db):
-    f = np.asarray(bands_hz, dtype=float)
-    s = np.asarray(speech_band_db, dtype=float)
-    if f.ndim != 1 or s.shape != f.shape:
-        raise MeasurementError(
-            f"bands_hz and speech_band_db must be 1-D of equal length; got {f.shape} and {s.shape}"
-        )
+def _check_levels(speech, noise) -> tuple[np.ndarray, np.ndarray, Optional[np.ndarray]]:
+    # Nominal centres, speech band levels and noise band levels (or None) as arrays.
+    if not isinstance(speech, BandLevels):
+        raise MeasurementError(f"speech must be BandLevels (voiceband.bands); got {type(speech).__name__}")
+    sp = speech.as_band()
+    f = np.asarray(sp.nominal_hz, dtype=float)
     n = None
-    if noise_band_db is not None:
-        n = np.asarray(noise_band_db, dtype=float)
-        if n.shape != f.shape:
-            raise MeasurementError(f"noise_band_db must have the shape of bands_hz {f.shape}; got {n.shape}")
-    return f, s, n
+    if noise is not None:
+        if not isinstance(noise, BandLevels):
+            raise MeasurementError(f"noise must be BandLevels (voiceband.bands) or None; got {type(noise).__name__}")
+        nb = noise.as_band()
+        if nb.nominal_hz.shape != f.shape or not np.allclose(nb.nominal_hz, f, rtol=1e-3):
+            raise MeasurementError(
+                f"noise must be on the bands of speech ({f.size} bands); got {nb.nominal_hz.size} bands")
+        n = np.asarray(nb.levels_db, dtype=float)
+    return f, np.asarray(sp.levels_db, dtype=float), n
 
 
 def _speech_minus_noise_db(s: np.ndarray, n: Optional[np.ndarray]) -> np.ndarray:
@@ -370,7 +379,7 @@ def _fit_effort(f, level_db, span_hz) -> Optional[VocalEffortFit]:
 
     lo, hi = span_hz
     refs = [effort_band_levels_db(e) for e in VOCAL_EFFORTS]
-    im, ir = _common_bands(f, refs[0][0])
+    im, ir = _common_bands(f, refs[0].nominal_hz)
     if im.size == 0:
         return None
     fb = f[im]
@@ -378,7 +387,7 @@ def _fit_effort(f, level_db, span_hz) -> Optional[VocalEffortFit]:
     if np.count_nonzero(use) < _MIN_FIT_BANDS:
         return None
     m = level_db[im][use]
-    r = np.array([ref_db[ir][use] for _, ref_db in refs])
+    r = np.array([ref.levels_db[ir][use] for ref in refs])
     best = None
     # The reference is piecewise linear in the effort index, so its least-squares shape fit
     # (mean removed) is a one-parameter linear regression on each segment [k, k + 1].
@@ -402,10 +411,9 @@ def _fit_effort(f, level_db, span_hz) -> Optional[VocalEffortFit]:
 
 
 def fit_vocal_effort(
-    bands_hz,
-    speech_band_db,
+    speech: BandLevels,
     *,
-    noise_band_db=None,
+    noise: Optional[BandLevels] = None,
     span_hz=EFFORT_FIT_SPAN_HZ,
 ) -> Optional[VocalEffortFit]:
     """Fit the vocal effort of a long-term speech spectrum by the shape of its central bands.
@@ -416,8 +424,8 @@ def fit_vocal_effort(
     interpolated linearly in dB between tabulated efforts; the effort minimising the RMS of
     the difference after removing its mean (a least-squares fit of shape, not of level) over
     the bands inside ``span_hz`` is returned.  The bands of 500-2000 Hz carry the effort's
-    tilt (trade notes 5.3: 500-4000 Hz tilt -8.6 / -8.0 / -7.1 / -5.5 dB/octave for
-    normal / raised / loud / shout) and lie inside any voice passband.
+    tilt (ANSI S3.5-1997 Table 3 spectrum levels regressed on log2 f over 500-4000 Hz:
+    -8.6 / -8.0 / -7.1 / -5.5 dB/octave for normal / raised / loud / shout) and lie inside any voice passband.
 
     Limits: a chain whose response tilts across the fit span (pre-emphasis, a rising SSB
     transmit response) is indistinguishable here from a change of vocal effort: 6 dB/octave
@@ -426,12 +434,11 @@ def fit_vocal_effort(
 
     Parameters
     ----------
-    bands_hz : array_like
-        Nominal one-third-octave centres (Hz) of ``speech_band_db``.
-    speech_band_db : array_like
-        Band levels of the speech-active long-term spectrum (dB).
-    noise_band_db : array_like or None, keyword-only
-        Band levels of the pause spectrum on the same bands, or ``None``.
+    speech : BandLevels
+        One-third-octave levels of the speech-active long-term spectrum (band levels, dB;
+        spectrum levels are converted).
+    noise : BandLevels or None, keyword-only
+        Levels of the pause spectrum on the same bands, or ``None``.
     span_hz : (float, float), keyword-only
         Lowest and highest nominal band centre (Hz, inclusive) used for the fit.
 
@@ -450,7 +457,7 @@ def fit_vocal_effort(
     ANSI S3.5-1997, Table 3 (standard speech spectrum levels for normal, raised, loud and
     shouted vocal effort).
     """
-    f, s, n = _check_bands(bands_hz, speech_band_db, noise_band_db)
+    f, s, n = _check_levels(speech, noise)
     lo, hi = _check_span(span_hz)
     return _fit_effort(f, _speech_minus_noise_db(s, n), (lo, hi))
 
@@ -481,18 +488,17 @@ def _effort_label(x: float) -> str:
 
 
 def passband_edges(
-    bands_hz,
-    speech_band_db,
+    speech: BandLevels,
     *,
-    noise_band_db=None,
+    noise: Optional[BandLevels] = None,
     reference: str = "byrne1994",
     drop_db: float = 10.0,
     effort_fit_span_hz=EFFORT_FIT_SPAN_HZ,
 ) -> PassbandEdges:
     """Estimate the passband edges of a transmit chain from a long-term speech spectrum.
 
-    Method (common practice when no test signal is available; see trade notes on
-    "response from a reference LTASS"):
+    Method (common practice when no test signal is available: the measured long-term
+    spectrum against a reference long-term speech spectrum):
 
     1. Speech band power minus pause (noise) band power, where a noise spectrum is given,
        so that the estimate describes the speech that got through rather than the noise
@@ -532,12 +538,11 @@ def passband_edges(
 
     Parameters
     ----------
-    bands_hz : array_like
-        Nominal one-third-octave centres (Hz) of ``speech_band_db``.
-    speech_band_db : array_like
-        Band levels of the speech-active long-term spectrum (dB, e.g. dBFS).
-    noise_band_db : array_like or None, keyword-only
-        Band levels of the pause spectrum on the same bands, or ``None``.
+    speech : BandLevels
+        One-third-octave levels of the speech-active long-term spectrum (band levels, dB,
+        e.g. dBFS; spectrum levels are converted).
+    noise : BandLevels or None, keyword-only
+        Levels of the pause spectrum on the same bands, or ``None``.
     reference : str, keyword-only
         ``"auto"`` (vocal effort fitted), or a name from
         :data:`voiceband.reference_spectra.REFERENCE_SPECTRA`: ``"byrne1994"`` (default),
@@ -561,8 +566,22 @@ def passband_edges(
     MeasurementError
         Mismatched arrays, unknown reference, ``drop_db`` not positive, or a bad
         ``effort_fit_span_hz``.
+
+    Examples
+    --------
+    The Byrne et al. (1994) spectrum 40 dB down, with the bands below 300 Hz a further 20 dB
+    down (a high-pass chain), against that same reference:
+
+    >>> import numpy as np
+    >>> from voiceband.bands import BandLevels
+    >>> from voiceband.reference_spectra import reference_band_levels_db
+    >>> ref = reference_band_levels_db("byrne1994")
+    >>> cut = np.where(ref.nominal_hz < 300, -20.0, 0.0)
+    >>> e = passband_edges(BandLevels(ref.bands, ref.levels_db - 40.0 + cut))
+    >>> round(e.low_hz), e.high_hz, e.passband_level_db
+    (282, None, -40.0)
     """
-    f, s, n = _check_bands(bands_hz, speech_band_db, noise_band_db)
+    f, s, n = _check_levels(speech, noise)
     drop_db = float(drop_db)
     if not drop_db > 0:
         raise MeasurementError(f"drop_db must be positive; got {drop_db:g}")
@@ -572,13 +591,12 @@ def passband_edges(
         )
     level_all = _speech_minus_noise_db(s, n)
     if reference != "auto":
-        ref_f, ref_db = reference_band_levels_db(reference)
-        return _edges_against(f, level_all, ref_f, ref_db, reference, drop_db, {})
+        return _edges_against(f, level_all, reference_band_levels_db(reference), reference, drop_db, {})
     span = _check_span(effort_fit_span_hz)
     fit = _fit_effort(f, level_all, span)
     if fit is None:
-        ref_f, ref_db = reference_band_levels_db(_FALLBACK_REFERENCE)
-        return _edges_against(f, level_all, ref_f, ref_db, _FALLBACK_REFERENCE, drop_db, {})
+        return _edges_against(f, level_all, reference_band_levels_db(_FALLBACK_REFERENCE), _FALLBACK_REFERENCE,
+                              drop_db, {})
     # Where the chain's skirts reach into the fit span they tilt it and bias the effort, so
     # the span is narrowed to an octave (or, if that leaves too few bands, two thirds of an
     # octave) inside the edges just found and the fit repeated, a few times at most: the
@@ -587,7 +605,7 @@ def passband_edges(
         edges = _edges_against(
             f,
             level_all,
-            *effort_band_levels_db(fit.effort_index),
+            effort_band_levels_db(fit.effort_index),
             _effort_label(fit.effort_index),
             drop_db,
             {
@@ -612,9 +630,10 @@ def passband_edges(
     return edges
 
 
-def _edges_against(f, level_all, ref_f, ref_db, label, drop_db, extra) -> PassbandEdges:
+def _edges_against(f, level_all, ref: BandLevels, label, drop_db, extra) -> PassbandEdges:
     # Steps 2-5 of passband_edges against one reference spectrum.
-    im, ir = _common_bands(f, ref_f)
+    ref_db = ref.levels_db
+    im, ir = _common_bands(f, ref.nominal_hz)
     if im.size < 5:
         return PassbandEdges(None, None, None, drop_db, label, (), (), None, None, **extra)
     common_f = f[im]
@@ -635,7 +654,7 @@ def _edges_against(f, level_all, ref_f, ref_db, label, drop_db, extra) -> Passba
         in_span = np.ones(common_f.size, dtype=bool)
     level_pb = float(np.median(np.sort(smooth[in_span])[-_PASSBAND_BANDS:]))
     thr = level_pb - drop_db
-    logf = np.log2(_exact_centre_hz(common_f))
+    logf = np.log2(exact_centre_hz(common_f))
     i_max = int(np.flatnonzero(in_span)[np.argmax(smooth[in_span])])
 
     low = None

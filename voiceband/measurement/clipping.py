@@ -120,7 +120,7 @@ from typing import Optional
 import numpy as np
 
 from ..errors import SignalValueError
-from .levels import _as_block, _check_rate
+from .. import validate
 
 __all__ = [
     "ClipEvent",
@@ -537,7 +537,7 @@ class ClippingAccumulator:
     def __init__(self, sample_rate_hz: float, *, search_db: float = 1.0, min_run_samples: int = 3,
                  merge_gap_s: float = 0.05, max_events: int = 1000,
                  quantization_step: Optional[float] = None) -> None:
-        fs = _check_rate(sample_rate_hz)
+        fs = validate.sample_rate_hz(sample_rate_hz)
         if not (0.1 <= float(search_db) <= 6.0):
             raise SignalValueError(f"search_db must be between 0.1 and 6 dB, got {search_db!r}.")
         if int(min_run_samples) != min_run_samples or min_run_samples < 2:
@@ -573,7 +573,7 @@ class ClippingAccumulator:
         SignalValueError
             If the block is not 1-D real numbers or holds NaN or infinite values.
         """
-        x = _as_block(block)
+        x = validate.block(block)
         n = x.size
         if n == 0:
             return

@@ -61,7 +61,9 @@ from typing import Optional
 
 import numpy as np
 
+from .. import validate
 from ..errors import SignalValueError
+from ..units import db_amplitude, db_power
 
 __all__ = [
     "BS1770_TRUE_PEAK_PHASES",
@@ -101,8 +103,8 @@ BS1770_TRUE_PEAK_PHASES = np.array(
 BS1770_TRUE_PEAK_PHASES.setflags(write=False)
 
 #: ITU-T P.56 method B envelope time constant (s), hangover (s) and margin
-#: (dB) — P.56 (2011) method B as implemented in G.191 ``sv56demo``
-#: (trade-facts §3.1).
+#: (dB) — ITU-T P.56 (12/2011) method B as implemented in ITU-T G.191 ``sv56demo``
+#: (values read in open ports of it).
 P56_TIME_CONSTANT_S = 0.03
 P56_HANGOVER_S = 0.2
 P56_MARGIN_DB = 15.9
@@ -153,14 +155,6 @@ _BELOW_LADDER = np.float32(2.0 ** ((_LADDER_MIN - 0.5) / _LADDER_STEPS_PER_OCTAV
 _ENVELOPE_RATE_HZ = 750.0
 # Samples per inner chunk of a block (256 KiB of float64: stays in L2 cache).
 _CHUNK = 1 << 15
-
-
-def _db_power(x: float) -> float:
-    return 10.0 * math.log10(x) if x > 0.0 else -math.inf
-
-
-def _db_amplitude(x: float) -> float:
-    return 20.0 * math.log10(x) if x > 0.0 else -math.inf
 
 
 def _one_pole(u: np.ndarray, g: float, y_prev: float) -> np.ndarray:
@@ -264,24 +258,6 @@ class LevelsResult:
     true_peak_oversampling: int = _OVERSAMPLING
 
 
-def _check_rate(sample_rate_hz: float) -> float:
-    fs = float(sample_rate_hz)
-    if not math.isfinite(fs) or fs <= 0.0:
-        raise SignalValueError(f"sample_rate_hz must be a positive number of hertz, got {sample_rate_hz!r}.")
-    return fs
-
-
-def _as_block(block) -> np.ndarray:
-    x = np.asarray(block)
-    if x.ndim != 1:
-        raise SignalValueError(f"A block of samples must be one-dimensional, got an array of shape {x.shape}.")
-    if x.dtype != np.float64:
-        if not (np.issubdtype(x.dtype, np.floating) or np.issubdtype(x.dtype, np.integer)):
-            raise SignalValueError(f"Samples must be real numbers, got dtype {x.dtype}.")
-        x = x.astype(np.float64)
-    return x
-
-
 class LevelsAccumulator:
     """Streaming level meter (see the module docstring for the methods).
 
@@ -299,7 +275,7 @@ class LevelsAccumulator:
     """
 
     def __init__(self, sample_rate_hz: float) -> None:
-        fs = _check_rate(sample_rate_hz)
+        fs = validate.sample_rate_hz(sample_rate_hz)
         self._fs = fs
         self._n = 0
         self._sum = 0.0
@@ -337,7 +313,7 @@ class LevelsAccumulator:
             If the block is not 1-D real numbers or holds NaN or infinite
             values; the accumulator is then left as it was.
         """
-        x = _as_block(block)
+        x = validate.block(block)
         n = x.size
         if n == 0:
             return
@@ -556,7 +532,7 @@ class LevelsAccumulator:
             hist = hist + self._envelope_steps(u_last, self._grp_len, commit=False)
 
         ms = self._sumsq / n
-        tp_dbtp = _db_amplitude(tp)
+        tp_dbtp = db_amplitude(tp)
         if self._sumsq == 0.0:
             active, activity, thr_db = -math.inf, 0.0, None
         else:
@@ -570,11 +546,11 @@ class LevelsAccumulator:
             sample_rate_hz=fs,
             sample_count=n,
             duration_s=n / fs,
-            peak_dbfs=_db_amplitude(self._peak),
+            peak_dbfs=db_amplitude(self._peak),
             peak_time_s=None if silent else self._peak_index / fs,
             true_peak_dbtp=tp_dbtp,
             true_peak_time_s=None if silent else tp_pos / fs,
-            rms_dbfs=_db_power(ms),
+            rms_dbfs=db_power(ms),
             active_level_dbfs=active,
             activity_factor=activity,
             active_threshold_dbfs=thr_db,

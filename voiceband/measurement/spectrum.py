@@ -1,11 +1,10 @@
 """Long-term spectrum of speech and of pauses (streamed Welch), one-third-octave bands, tilt.
 
-:class:`SpectralAccumulator` is the spectral side of ``voiceband analyze``: in one pass and
-constant memory it gathers everything that needs the spectrum or the speech/pause split,
-and :meth:`SpectralAccumulator.result` returns a :class:`SpectralAnalysis` with the
-activity and noise floor (:mod:`voiceband.measurement.activity`), long-term spectra and band levels
-(here), occupied bandwidth and passband edges (:mod:`voiceband.measurement.bandwidth`), mains hum, and
-the talker's F0 range (:mod:`voiceband.measurement.voice`).
+:class:`LongTermSpectrumAccumulator` keeps the long-term spectra of the speech frames and of
+the pause frames in constant memory.  It is fed the analysis frames and level bins of
+:class:`voiceband.measurement.activity.ActivityAccumulator` by the pipeline in
+:mod:`voiceband.analysis`, which also runs the other accumulators (levels, clipping, hum,
+voice) and the bandwidth and edge estimates on the result.
 
 Long-term spectrum
 ------------------
@@ -28,10 +27,8 @@ talker-to-talker spread).
 
 One-third-octave bands
 ----------------------
-IEC 61260-1:2014 base-10 bands: exact mid-band frequencies ``1000 * 10**(x/10)`` Hz, band
-edges at ``10**(+/-1/20)`` times the mid-band, labelled by the nominal centres 25, 31.5,
-40 ... 20000 Hz (IEC 61260-1 Annex E / ISO 266).  Only bands whose upper edge lies below
-the Nyquist frequency are used.  A band *level* is the power in the band (dBFS),
+IEC 61260-1:2014 base-10 bands from :mod:`voiceband.bands` (25 Hz ... 20 kHz); only bands
+whose upper edge lies below the Nyquist frequency are used.  A band *level* is the power in the band (dBFS),
 integrated from the PSD with fractional bins (:func:`voiceband.measurement.bandwidth.cumulative_power`).
 
 Tilt
@@ -45,56 +42,25 @@ constant-percentage bands it is exactly 10 log10(2) = 3.01 dB/octave lower.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Optional
 
 import numpy as np
 
-from .activity import (
-    LEVEL_BIN_COUNT,
-    ActivityAccumulator,
-    ActivityResult,
-    HumAccumulator,
-    HumResult,
-    _check_rate,
-    classify_level_bins,
-)
-from .bandwidth import (
-    OccupiedBandwidth,
-    PassbandEdges,
-    _exact_centre_hz,
-    cumulative_power,
-    occupied_bandwidth,
-    passband_edges,
-)
+from .activity import LEVEL_BIN_COUNT
+from .bandwidth import cumulative_power
+from ..bands import BandLevels, bands_for_nominal, third_octave_bands
 from ..errors import MeasurementError
-from .voice import VoiceReservoir, VoiceResult
 
 __all__ = [
-    "NOMINAL_THIRD_OCTAVE_HZ",
-    "ThirdOctaveBands",
-    "third_octave_bands",
     "band_powers",
     "third_octave_levels_db",
     "tilt_db_per_octave",
     "psd_tilt_db_per_octave",
     "SpectrumResult",
-    "SpectralAnalysis",
-    "SpectralAccumulator",
-    "analyze_spectrum",
+    "LongTermSpectrumAccumulator",
 ]
 
-#: Nominal one-third-octave mid-band frequencies 25 Hz ... 20 kHz (IEC 61260-1, ISO 266),
-#: for band numbers x = -16 ... 13 (exact mid-band 1000 * 10**(x/10) Hz).
-NOMINAL_THIRD_OCTAVE_HZ = (
-    25.0, 31.5, 40.0, 50.0, 63.0, 80.0, 100.0, 125.0, 160.0, 200.0, 250.0, 315.0, 400.0, 500.0,
-    630.0, 800.0, 1000.0, 1250.0, 1600.0, 2000.0, 2500.0, 3150.0, 4000.0, 5000.0, 6300.0,
-    8000.0, 10000.0, 12500.0, 16000.0, 20000.0,
-)
-_FIRST_BAND_X = -16
-_EDGE_FACTOR = 10.0 ** 0.05  # IEC 61260-1 base-10: G**(1/(2b)) with G = 10**0.3, b = 3
-#: Default analysis span of the occupied bandwidth (Hz, low end); the high end is fs/2.
-OBW_SPAN_LOW_HZ = 20.0
 #: Tilt span before clipping to the passband (Hz).
 TILT_SPAN_HZ = (300.0, 3000.0)
 #: Frames transformed at full density before thinning starts (see the module docstring).
@@ -105,37 +71,6 @@ def _ro(a) -> np.ndarray:
     a = np.array(a, dtype=float)
     a.flags.writeable = False
     return a
-
-
-@dataclass(frozen=True)
-class ThirdOctaveBands:
-    """One-third-octave bands below a Nyquist frequency (IEC 61260-1 base 10).
-
-    Attributes
-    ----------
-    nominal_hz, centre_hz, lower_hz, upper_hz : ndarray
-        Nominal label, exact mid-band frequency and band edges (Hz), read-only.
-    """
-
-    nominal_hz: np.ndarray
-    centre_hz: np.ndarray
-    lower_hz: np.ndarray
-    upper_hz: np.ndarray
-
-
-def third_octave_bands(sample_rate_hz: float) -> ThirdOctaveBands:
-    """The one-third-octave bands 25 Hz ... 20 kHz whose upper edge is below ``fs / 2``."""
-    fs = float(sample_rate_hz)
-    x = np.arange(len(NOMINAL_THIRD_OCTAVE_HZ)) + _FIRST_BAND_X
-    centre = 1000.0 * 10.0 ** (x / 10.0)
-    upper = centre * _EDGE_FACTOR
-    keep = upper < fs / 2.0
-    return ThirdOctaveBands(
-        nominal_hz=_ro(np.array(NOMINAL_THIRD_OCTAVE_HZ)[keep]),
-        centre_hz=_ro(centre[keep]),
-        lower_hz=_ro(centre[keep] / _EDGE_FACTOR),
-        upper_hz=_ro(upper[keep]),
-    )
 
 
 def band_powers(psd, freqs_hz, lower_hz, upper_hz) -> np.ndarray:
@@ -164,30 +99,36 @@ def _levels_db(power: np.ndarray) -> np.ndarray:
         return 10.0 * np.log10(np.maximum(power, 0.0))
 
 
-def third_octave_levels_db(psd, freqs_hz) -> tuple[np.ndarray, np.ndarray]:
+def third_octave_levels_db(psd, freqs_hz) -> BandLevels:
     """One-third-octave band levels of a one-sided PSD.
 
     The grid's last frequency is taken as the Nyquist frequency: only bands whose upper
-    edge lies below it are returned.
+    edge lies below it are returned (:func:`voiceband.bands.third_octave_bands`).
 
     Returns
     -------
-    nominal_hz : ndarray
-        Nominal band centres (Hz).
-    band_db : ndarray
-        Band levels, ``10 log10`` of the band power (dBFS for a full-scale PSD; ``-inf``
-        for a band without power).
+    BandLevels
+        Band levels (kind ``"band"``), ``10 log10`` of the band power (dBFS for a
+        full-scale PSD; ``-inf`` for a band without power).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> f = np.arange(0, 4001.0)                      # 1 Hz bins up to 4 kHz
+    >>> bl = third_octave_levels_db(np.full(f.size, 1e-6), f)   # white: -60 dB per Hz
+    >>> round(float(bl.as_spectrum().levels_db[-1]), 6)
+    -60.0
     """
     f = np.asarray(freqs_hz, dtype=float)
     bands = third_octave_bands(2.0 * f[-1])
-    return bands.nominal_hz, _levels_db(band_powers(psd, f, bands.lower_hz, bands.upper_hz))
+    return BandLevels(bands, _levels_db(band_powers(psd, f, bands.lower_hz, bands.upper_hz)), "band")
 
 
-def _slope(bands_hz, values, span_hz) -> Optional[float]:
-    f = _exact_centre_hz(np.asarray(bands_hz, dtype=float))
-    v = np.asarray(values, dtype=float)
-    if f.shape != v.shape:
-        raise MeasurementError(f"bands_hz and band levels must have equal length; got {f.shape} and {v.shape}")
+def _slope(levels: BandLevels, span_hz) -> Optional[float]:
+    if not isinstance(levels, BandLevels):
+        raise MeasurementError(f"levels must be BandLevels (voiceband.bands); got {type(levels).__name__}")
+    f = levels.bands.centre_hz
+    v = levels.levels_db
     lo, hi = (float(s) for s in span_hz)
     sel = (f >= lo * 0.999) & (f <= hi * 1.001) & np.isfinite(v)
     if np.count_nonzero(sel) < 3:
@@ -196,38 +137,44 @@ def _slope(bands_hz, values, span_hz) -> Optional[float]:
     return float(slope)
 
 
-def tilt_db_per_octave(bands_hz, band_db, *, span_hz=TILT_SPAN_HZ) -> Optional[float]:
+def tilt_db_per_octave(levels: BandLevels, *, span_hz=TILT_SPAN_HZ) -> Optional[float]:
     """Spectral tilt: least-squares slope of one-third-octave *band levels* vs log2(f).
 
     Bands whose exact mid-band frequency lies in ``span_hz`` take part; white noise reads
-    +3.01 dB/octave, pink noise 0.0 (constant-percentage bands; trade notes 5.3).
+    +3.01 dB/octave (10 log10 2: constant-percentage bands double in width per octave),
+    pink noise 0.0.
 
     Parameters
     ----------
-    bands_hz : array_like
-        Nominal band centres (Hz).
-    band_db : array_like
-        Band levels (dB).
+    levels : BandLevels
+        One-third-octave levels; spectrum levels are converted to band levels.
     span_hz : (float, float), keyword-only
 
     Returns
     -------
     float or None
         dB per octave; ``None`` with fewer than 3 finite bands in the span.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from voiceband.bands import third_octave_bands
+    >>> b = third_octave_bands(48000)
+    >>> white = BandLevels(b, np.zeros(b.size), "spectrum")   # flat PSD
+    >>> round(tilt_db_per_octave(white), 2)
+    3.01
     """
-    return _slope(bands_hz, band_db, span_hz)
+    return _slope(levels.as_band(), span_hz)
 
 
-def psd_tilt_db_per_octave(bands_hz, band_db, *, span_hz=TILT_SPAN_HZ) -> Optional[float]:
+def psd_tilt_db_per_octave(levels: BandLevels, *, span_hz=TILT_SPAN_HZ) -> Optional[float]:
     """Slope of the band *spectrum levels* (dB per Hz, i.e. the PSD) vs log2(f).
 
     Spectrum level = band level - 10 log10(band width); for one-third-octave bands this
     slope is 10 log10(2) = 3.01 dB/octave below :func:`tilt_db_per_octave` (white noise 0,
     pink noise -3.01 dB/octave).
     """
-    f = _exact_centre_hz(np.asarray(bands_hz, dtype=float))
-    width = f * (_EDGE_FACTOR - 1.0 / _EDGE_FACTOR)
-    return _slope(bands_hz, np.asarray(band_db, dtype=float) - 10.0 * np.log10(width), span_hz)
+    return _slope(levels.as_spectrum(), span_hz)
 
 
 @dataclass(frozen=True)
@@ -273,69 +220,54 @@ class SpectrumResult:
     speech_frames_transformed: int
     noise_frames_transformed: int
 
+    @property
+    def speech_levels(self) -> Optional[BandLevels]:
+        """``speech_band_db`` on its bands (band levels), or ``None``."""
+        return None if self.speech_band_db is None else BandLevels(bands_for_nominal(self.bands_hz), self.speech_band_db)
 
-@dataclass(frozen=True)
-class SpectralAnalysis:
-    """Everything :class:`SpectralAccumulator` measured.
+    @property
+    def noise_levels(self) -> Optional[BandLevels]:
+        """``noise_band_db`` on its bands (band levels), or ``None``."""
+        return None if self.noise_band_db is None else BandLevels(bands_for_nominal(self.bands_hz), self.noise_band_db)
 
-    Attributes
-    ----------
-    activity : ActivityResult
-        Speech/pause classification and noise floor.
-    spectrum : SpectrumResult or None
-        ``None`` when the recording is shorter than one analysis frame.
-    occupied_bandwidth : OccupiedBandwidth or None
-        Of the speech PSD over 20 Hz ... fs/2; ``None`` without speech power.
-    edges : PassbandEdges or None
-        Estimated passband edges; ``None`` without a speech spectrum, or for a steady
-        signal (no pauses found: noise, tones), which is not speech, so comparing it with
-        a reference speech spectrum would say nothing about the chain.
-    hum : HumResult or None
-        Mains hum, ``None`` when none was found.
-    hum_window_count : int
-        Hum analysis windows seen; 0 means the recording was too short to look for hum.
-    voice : VoiceResult
-        Talker F0 range.
-    """
-
-    activity: ActivityResult
-    spectrum: Optional[SpectrumResult]
-    occupied_bandwidth: Optional[OccupiedBandwidth]
-    edges: Optional[PassbandEdges]
-    hum: Optional[HumResult]
-    hum_window_count: int
-    voice: VoiceResult
+    def within_passband(self, low_hz: Optional[float], high_hz: Optional[float]) -> "SpectrumResult":
+        """The same spectra with the tilt taken over 300-3000 Hz clipped to a passband (Hz; ``None``: open)."""
+        lo, hi = TILT_SPAN_HZ
+        if low_hz is not None:
+            lo = max(lo, low_hz)
+        if high_hz is not None:
+            hi = min(hi, high_hz)
+        tilt, tilt_psd, span = _tilt_over(self.speech_levels, (lo, hi))
+        return replace(self, tilt_db_per_octave=tilt, tilt_psd_db_per_octave=tilt_psd, tilt_span_hz=span)
 
 
-class SpectralAccumulator:
-    """Streamed speech/pause LTAS, band levels, tilt, bandwidth, edges, hum and F0 range.
+class LongTermSpectrumAccumulator:
+    """Streamed long-term spectrum of the speech frames and of the pause frames.
+
+    Fed with the analysis frames and their level bins from
+    :meth:`voiceband.measurement.activity.ActivityAccumulator.update_frames` (the framing and
+    the speech/pause decision belong to the activity measurement; the pipeline in
+    :mod:`voiceband.analysis` hands them over), it keeps one power-spectrum histogram row per
+    1 dB frame-level bin, so the speech and pause spectra can be summed once the whole
+    recording has decided where speech and pauses lie.
 
     Parameters
     ----------
     sample_rate_hz : float
-        At least 4000 Hz.
+        Sample rate (Hz), already checked by the activity accumulator
+        (:func:`voiceband.validate.sample_rate_hz`).
+    nfft : int
+        Frame length of the frames fed in (``activity.analysis_frame_length``).
 
     Notes
     -----
-    Memory: a (180 x (nfft/2 + 1)) float64 histogram (2.9 MB at 48 kHz), the hum
-    accumulator's histograms (about 3 MB), the F0 reservoir (60 s of float32) and one
-    partial frame -- independent of the recording's length.
-
-    Examples
-    --------
-    >>> acc = SpectralAccumulator(48000)                       # doctest: +SKIP
-    >>> for block in voiceband.audio.blocks(path):             # doctest: +SKIP
-    ...     acc.update(block)
-    >>> res = acc.result(active_level_dbfs=levels.active_level_dbfs)  # doctest: +SKIP
+    Memory: a (180 x (nfft/2 + 1)) float64 histogram (2.9 MB at 48 kHz), independent of the
+    recording's length.
     """
 
-    def __init__(self, sample_rate_hz: float):
-        fs = _check_rate(sample_rate_hz)
-        self.sample_rate_hz = fs
-        self._activity = ActivityAccumulator(fs)
-        self.nfft = self._activity.nfft
-        self._hum = HumAccumulator(fs)
-        self._voice = VoiceReservoir(fs)
+    def __init__(self, sample_rate_hz: float, nfft: int):
+        self.sample_rate_hz = float(sample_rate_hz)
+        self.nfft = int(nfft)
         nb = self.nfft // 2 + 1
         self._hist = np.zeros((LEVEL_BIN_COUNT, nb))
         self._weight = np.zeros(LEVEL_BIN_COUNT)
@@ -343,15 +275,10 @@ class SpectralAccumulator:
         n = self.nfft
         self._win = (0.5 - 0.5 * np.cos(2.0 * np.pi * np.arange(n) / n)).astype(np.float32)
 
-    def update(self, block) -> None:
-        """Add the next block of samples (1-D, native scale, any length >= 1)."""
-        frames, bins, first, x32 = self._activity.update_frames(block)  # checks the block
-        if bins.size:
-            self._spectra(frames, bins, first)
-        self._hum.update(x32)
-        self._voice.update(x32)
-
-    def _spectra(self, frames: np.ndarray, bins: np.ndarray, first: int) -> None:
+    def update_frames(self, frames: np.ndarray, bins: np.ndarray, first: int) -> None:
+        """Add analysis frames (rows of ``nfft`` samples), their level bins and the first frame's index."""
+        if bins.size == 0:
+            return
         idx = first + np.arange(bins.size, dtype=np.int64)
         # Region j covers frames F(2^j - 1) ... F(2^(j+1) - 1) - 1 and keeps every 2^j-th.
         _, e = np.frexp((idx // _FULL_DENSITY_FRAMES + 1).astype(np.float64))
@@ -378,24 +305,19 @@ class SpectralAccumulator:
             self._weight[b[s]] += float(w[s:e].sum())
             self._transformed[b[s]] += e - s
 
-    def result(self, *, active_level_dbfs: Optional[float] = None) -> SpectralAnalysis:
-        """Everything measured so far (does not change the accumulator).
+    def result(self, speech_bins: np.ndarray, pause_bins: np.ndarray) -> SpectrumResult:
+        """The long-term spectra so far (does not change the accumulator).
 
         Parameters
         ----------
-        active_level_dbfs : float or None, keyword-only
-            Active speech level (ITU-T P.56) to refer the hum level to; without it the RMS
-            level of the speech frames is used.
+        speech_bins, pause_bins : ndarray of bool
+            Which frame-level bins hold speech and which pauses
+            (:func:`voiceband.measurement.activity.classify_level_bins`).
+
+        The tilt is taken over 300-3000 Hz; :meth:`SpectrumResult.within_passband` narrows it
+        to a passband once one is known.
         """
         fs = self.sample_rate_hz
-        act = self._activity.result()
-        speech_bins, pause_bins, _ = classify_level_bins(self._activity.counts)
-        ref = active_level_dbfs if active_level_dbfs is not None else act.speech_level_dbfs
-        hum = self._hum.result(reference_level_dbfs=ref)
-        voice = self._voice.result(min_level_dbfs=act.speech_threshold_dbfs)
-        if act.frame_count == 0:
-            return SpectralAnalysis(act, None, None, None, hum, self._hum.window_count, voice)
-
         n = self.nfft
         freqs = np.arange(n // 2 + 1) * fs / n
         scale = 2.0 / (fs * float(np.sum(self._win.astype(np.float64) ** 2)))
@@ -419,27 +341,8 @@ class SpectralAccumulator:
         if noise_psd is not None:
             noise_db = _ro(_levels_db(band_powers(noise_psd, freqs, bands.lower_hz, bands.upper_hz)))
 
-        obw = edges = None
-        tilt = tilt_psd = span = None
-        steady = act.noise_mode_dbfs is None
-        if speech_db is not None:
-            try:
-                obw = occupied_bandwidth(speech_psd, freqs, span_hz=(OBW_SPAN_LOW_HZ, fs / 2.0))
-            except MeasurementError:
-                obw = None
-            lo, hi = TILT_SPAN_HZ
-            if not steady:
-                edges = passband_edges(bands.nominal_hz, speech_db, noise_band_db=noise_db, reference="auto")
-                if edges.low_hz is not None:
-                    lo = max(lo, edges.low_hz)
-                if edges.high_hz is not None:
-                    hi = min(hi, edges.high_hz)
-            if lo < hi:
-                tilt = tilt_db_per_octave(bands.nominal_hz, speech_db, span_hz=(lo, hi))
-                tilt_psd = psd_tilt_db_per_octave(bands.nominal_hz, speech_db, span_hz=(lo, hi))
-                span = (float(lo), float(hi)) if tilt is not None else None
-
-        spectrum = SpectrumResult(
+        tilt, tilt_psd, span = _tilt_over(None if speech_db is None else BandLevels(bands, speech_db), TILT_SPAN_HZ)
+        return SpectrumResult(
             freqs_hz=_ro(freqs),
             frequency_resolution_hz=fs / n,
             speech_psd_fs2_per_hz=speech_psd,
@@ -454,11 +357,13 @@ class SpectralAccumulator:
             speech_frames_transformed=int(self._transformed[speech_bins].sum()),
             noise_frames_transformed=int(self._transformed[pause_bins].sum()),
         )
-        return SpectralAnalysis(act, spectrum, obw, edges, hum, self._hum.window_count, voice)
 
 
-def analyze_spectrum(x, sample_rate_hz: float, *, active_level_dbfs: Optional[float] = None) -> SpectralAnalysis:
-    """Spectral analysis of a whole signal (one pass of :class:`SpectralAccumulator`)."""
-    acc = SpectralAccumulator(sample_rate_hz)
-    acc.update(x)
-    return acc.result(active_level_dbfs=active_level_dbfs)
+def _tilt_over(speech: Optional[BandLevels], span_hz) -> tuple[Optional[float], Optional[float], Optional[tuple]]:
+    """Band-level tilt, PSD tilt and the span used, or ``None`` for each without speech or span."""
+    lo, hi = span_hz
+    if speech is None or not lo < hi:
+        return None, None, None
+    tilt = tilt_db_per_octave(speech, span_hz=(lo, hi))
+    tilt_psd = psd_tilt_db_per_octave(speech, span_hz=(lo, hi))
+    return tilt, tilt_psd, ((float(lo), float(hi)) if tilt is not None else None)

@@ -8,47 +8,8 @@ Streaming: :class:`VoiceReservoir` keeps at most ``capacity_s`` (60 s) of the re
 0.5 s chunks, chosen evenly across the file among chunks loud enough to be speech, so
 memory is bounded whatever the file length.
 
-Estimator (in :meth:`VoiceReservoir.result`), on the stored chunks:
-
-1. *Analysis band.*  One FFT of each chunk gives, by keeping the bins below 4 kHz, the
-   chunk resampled to about 8 kHz (F0 and the harmonics that fix it lie far below
-   4 kHz), band-limited to about 70-3500 Hz: a zero-phase 4th-order Butterworth
-   high-pass magnitude at 70 Hz takes away rumble and most of a 50/60 Hz hum
-   fundamental (YIN follows the period of the harmonics, so a voice whose fundamental is
-   missing, as on a 300-2700 Hz channel, is still measured).
-2. *Mains hum.*  Hum is the one strictly periodic sound that stays the same in every
-   chunk; spoken F0 moves.  Lines at multiples of 50 or 60 Hz (up to 2 kHz, +-0.5 %)
-   that stand 10 dB above the median within +-25 Hz in the 20th percentile of the chunk
-   spectra (present in at least 80 % of 4 or more chunks) and carry at least -60 dB of
-   the band power are hum, if the family's 1st or 2nd harmonic is among them (so a
-   perfectly steady tone at 100 or 120 Hz is taken for hum).  Each line is fitted per
-   chunk as a steady sinusoid (frequency refined off the bin grid) and subtracted, then
-   notched (+-10 Hz, smooth), so hum supplies no period in the pauses and does not
-   dominate it in the speech.  Frames that keep less than 3 % of their power in the
-   analysis band (nearly all hum, rumble or out-of-band sound) are unvoiced.
-3. *Periodicity.*  The YIN difference function and its cumulative-mean-normalised form
-   (de Cheveigne & Kawahara, J. Acoust. Soc. Am. 111(4):1917-1930, 2002, eqs. 6-8) in
-   32 ms windows every 10 ms, 50-500 Hz.
-4. *Candidates and voicing* by pYIN (Mauch & Dixon, "pYIN: a fundamental frequency
-   estimator using probabilistic threshold distributions", ICASSP 2014): instead of one
-   YIN threshold, a Beta(2, 18) distribution of thresholds; for each threshold the dips
-   below it get a Boltzmann prior over their order (parameter 1, see ``_BOLTZMANN``) so
-   that, as in YIN, the first dip is preferred but later ones keep some weight; summing
-   gives each dip a probability of being the period, and 1 minus their sum is the
-   probability that the frame is unvoiced.  Frames at pause level (7 dB or more below
-   the speech threshold given to :meth:`VoiceReservoir.result`) are unvoiced.
-5. *Tracking* by pYIN's hidden Markov model, on a 1/12-octave pitch grid with voiced and
-   unvoiced copies of each pitch: F0 may move at most 0.36 octave per 10 ms frame
-   (librosa.pyin's default 35.92 octaves/s; from memory), voicing switches with
-   probability 0.01, and the Viterbi path picks the dip of each frame.  Continuity is
-   what removes most octave errors on band-limited speech, where the 2nd harmonic often
-   makes the deepest dip.
-6. *Talker range.*  The tracking is run again with only the dips between 0.75 x the
-   first pass's lower quartile and 1.5 x its upper quartile (the two-pass floor and
-   ceiling of De Looze & Hirst 2008), which removes the remaining octave jumps.
-
-The 5th, 50th and 95th percentiles of the voiced-frame F0 values are reported.
-:func:`yin_f0` is the plain YIN estimator (steps 1-5 of the paper) for a single signal.
+Estimator: :meth:`VoiceReservoir.result`.  :func:`yin_f0` is the plain YIN estimator
+(steps 1-5 of the paper) for a single signal.
 """
 
 from __future__ import annotations
@@ -59,7 +20,9 @@ from typing import Optional
 
 import numpy as np
 
-from ..errors import MeasurementError, SignalValueError
+from .. import validate
+from ..errors import MeasurementError
+from .hum import steady_mains_lines, subtract_line
 
 __all__ = [
     "VoiceResult",
@@ -98,20 +61,6 @@ _HOP_S = 0.01
 _HIGHPASS_HZ, _HIGHPASS_ORDER = 70.0, 4
 #: Raised-cosine low-pass edge of the analysis band (Hz), below the resampled Nyquist.
 _TOP_PASS_HZ, _TOP_STOP_HZ = 3200.0, 3800.0
-#: Mains frequencies (Hz) whose harmonics are checked for hum lines, up to _HUM_TOP_HZ.
-_MAINS_HZ = (50.0, 60.0)
-_HUM_TOP_HZ = 2000.0
-#: A hum line stands this far above the median of the spectrum within +-_HUM_SPAN_HZ (dB).
-_HUM_LINE_DB = 10.0
-_HUM_SPAN_HZ = 25.0
-#: Smallest share of the analysis-band power of a chunk that a hum line must have (-60 dB).
-_HUM_MIN_SHARE = 1e-6
-#: Percentile of the chunk spectra taken as the steady spectrum, and fewest chunks for it.
-_HUM_PERCENTILE = 20.0
-_HUM_MIN_CHUNKS = 4
-#: Mains frequency tolerance (fraction) when looking for a harmonic's line (grids stay
-#: within about +-0.05-0.2 Hz; trade notes 6.1).
-_MAINS_TOLERANCE = 0.005
 #: Half-width of a hum notch (Hz): the gain rises as sin^2 from 0 at the line to 1.
 _NOTCH_HALF_WIDTH_HZ = 10.0
 
@@ -260,10 +209,8 @@ def yin_f0(
     cross term by FFT, all frames at once.  This is the plain estimator, with no
     pre-filter and no tracking; :class:`VoiceReservoir` adds both for running speech.
     """
-    fs = float(sample_rate_hz)
-    sig = np.ascontiguousarray(x, dtype=np.float64)
-    if sig.ndim != 1:
-        raise SignalValueError(f"the signal must be one-dimensional; got shape {sig.shape}")
+    fs = float(validate.sample_rate_hz(sample_rate_hz))
+    sig = np.ascontiguousarray(validate.block(x, name="x"))
     if not (0 < fmin_hz < fmax_hz < fs / 2):
         raise MeasurementError(
             f"need 0 < fmin_hz < fmax_hz < sample_rate_hz / 2; got {fmin_hz:g}, {fmax_hz:g}, {fs:g}"
@@ -463,12 +410,12 @@ def _analysis_band(chunks: np.ndarray, sample_rate_hz: float) -> tuple[np.ndarra
     edge = (f > top_pass) & (f < top_stop)
     gain[edge] *= 0.5 + 0.5 * np.cos(np.pi * (f[edge] - top_pass) / (top_stop - top_pass))
     gain[f >= top_stop] = 0.0
-    for found in _hum_families(spec, df):
+    for found in steady_mains_lines(spec, df):
         # The lines found: fitted (frequency refined) and subtracted, then notched.
         # (Subtracting the family's other harmonics as well, where no line stands out,
         # would take the speech's share at those frequencies out of every chunk and leave
         # a 50/60 Hz-periodic residue in the pauses.)
-        fitted = [_remove_line(spec, float(peak), length, refine=True) for _, peak in found]
+        fitted = [subtract_line(spec, float(peak), length, refine=True) for _, peak in found]
         for kappa in fitted:
             # Smooth (sin^2) notch for what is left of a line that is not quite steady; a
             # sharp-edged notch would smear the speech it removes over the whole chunk, as
@@ -480,92 +427,6 @@ def _analysis_band(chunks: np.ndarray, sample_rate_hz: float) -> tuple[np.ndarra
     out = irfft(spec, m, axis=1)
     out *= m / length
     return out, rate
-
-
-def _dirichlet(m: np.ndarray, length: int) -> np.ndarray:
-    """DFT at bin offsets ``m`` of a complex exponential over ``length`` samples:
-    ``exp(-i pi m (L-1)/L) sin(pi m) / sin(pi m / L)`` (``L`` at ``m = 0``)."""
-    with np.errstate(invalid="ignore", divide="ignore"):
-        ratio = np.sin(np.pi * m) / np.sin(np.pi * m / length)
-    ratio = np.where(np.abs(m) < 1e-9, float(length), ratio)
-    return np.exp(-1j * np.pi * m * (length - 1) / length) * ratio
-
-
-def _line_model(k: np.ndarray, kappa: np.ndarray, length: int) -> tuple[np.ndarray, np.ndarray]:
-    """DFTs at bins ``k`` of ``cos`` and ``sin`` at the fractional bins ``kappa``.
-
-    Both have shape ``(len(kappa), len(k))``.
-    """
-    m = k[None, :] - kappa[:, None]
-    d_pos, d_neg = _dirichlet(m, length), _dirichlet(k[None, :] + kappa[:, None], length)
-    return 0.5 * (d_pos + d_neg), (d_pos - d_neg) / 2j
-
-
-def _remove_line(spec: np.ndarray, kappa: float, length: int, *, refine: bool) -> float:
-    """Subtract from each row of ``spec`` (rfft bins of ``length``-sample rows) the steady
-    sinusoid at bin ``kappa`` that best fits the bins within 3 of it; returns its bin.
-
-    The DFT of ``cos`` and ``sin`` at a frequency off the bin grid is known in closed form
-    (Dirichlet kernel), so a least-squares fit on the few bins around the line gives its
-    whole leakage pattern, which is subtracted from every bin: a line off the bin grid
-    (mains off nominal) would otherwise leave a residue that a notch cannot reach.  With
-    ``refine`` the frequency is searched within +-0.5 bin (steps of 0.05) for the fit that
-    leaves the least power around the line in the median chunk.
-    """
-    n_bins = spec.shape[1]
-    centre = int(round(kappa))
-    near = np.arange(max(0, centre - 3), min(n_bins, centre + 4))
-    data = np.concatenate((spec[:, near].real, spec[:, near].imag), axis=1).T.astype(np.float64)
-    kappas = kappa + np.linspace(-0.5, 0.5, 21) if refine else np.array([kappa])
-    c, s = _line_model(near, kappas, length)
-    model = np.stack(
-        (np.concatenate((c.real, c.imag), axis=1), np.concatenate((s.real, s.imag), axis=1)), axis=2
-    )                                                        # (kappas, 2 * bins, 2)
-    coef = np.linalg.pinv(model) @ data                      # (kappas, 2, rows)
-    left = np.median(np.sum((data[None] - model @ coef) ** 2, axis=1), axis=1)
-    best = int(np.argmin(left))
-    c, s = _line_model(np.arange(n_bins), kappas[best : best + 1], length)
-    spec -= (coef[best, 0][:, None] * c + coef[best, 1][:, None] * s).astype(spec.dtype)
-    return float(kappas[best])
-
-
-def _hum_families(spec: np.ndarray, df: float) -> list[list[tuple[int, int]]]:
-    """Steady mains lines in the chunk spectra, as (harmonic number, FFT bin) per mains
-    family that counts (see the module notes)."""
-    c_count = spec.shape[0]
-    top = min(int(_HUM_TOP_HZ / df) + 1, spec.shape[1])
-    span = int(round(_HUM_SPAN_HZ / df))
-    if c_count < _HUM_MIN_CHUNKS or top < 2 * span + 2 or df > 10.0:
-        return []
-    power = np.abs(spec[:, :top]) ** 2
-    steady = np.percentile(power, _HUM_PERCENTILE, axis=0)
-    padded = np.concatenate((np.full(span, np.nan), steady, np.full(span, np.nan)))
-    from numpy.lib.stride_tricks import sliding_window_view
-
-    with np.errstate(all="ignore"):
-        around = np.nanmedian(sliding_window_view(padded, 2 * span + 1), axis=1)
-        excess_db = 10.0 * np.log10(steady / around)
-    excess_db = np.nan_to_num(excess_db, nan=-np.inf, posinf=np.inf, neginf=-np.inf)
-    # A line must also carry a share of the chunk power that could matter (on a
-    # noise-free signal the spectrum between lines is at rounding level, and any bin
-    # would stand out from it).
-    total = float(np.median(np.sum(np.abs(spec) ** 2, axis=1)))
-    excess_db[steady < _HUM_MIN_SHARE * total] = -np.inf
-    families = []
-    for mains in _MAINS_HZ:
-        found = []
-        for k in range(1, int(_HUM_TOP_HZ // mains) + 1):
-            centre = k * mains / df
-            reach = _MAINS_TOLERANCE * k * mains / df + 1.0
-            lo_b, hi_b = max(1, int(math.floor(centre - reach))), min(top - 1, int(math.ceil(centre + reach)))
-            if hi_b < lo_b:
-                break
-            peak = lo_b + int(np.argmax(steady[lo_b : hi_b + 1]))
-            if excess_db[peak] >= _HUM_LINE_DB:
-                found.append((k, peak))
-        if any(k <= 2 for k, _ in found):
-            families.append(found)
-    return families
 
 
 class VoiceReservoir:
@@ -589,9 +450,7 @@ class VoiceReservoir:
     """
 
     def __init__(self, sample_rate_hz: float, *, capacity_s: float = 60.0, chunk_s: float = 0.5):
-        fs = float(sample_rate_hz)
-        if not (math.isfinite(fs) and fs > 0):
-            raise SignalValueError(f"sample_rate_hz must be a positive number; got {sample_rate_hz!r}")
+        fs = float(validate.sample_rate_hz(sample_rate_hz))
         if not (capacity_s >= chunk_s > 0):
             raise MeasurementError(f"need capacity_s >= chunk_s > 0; got {capacity_s!r}, {chunk_s!r}")
         self.sample_rate_hz = fs
@@ -606,9 +465,7 @@ class VoiceReservoir:
 
     def update(self, block) -> None:
         """Add the next block of samples (1-D, any length >= 1)."""
-        x = np.asarray(block)
-        if x.ndim != 1:
-            raise SignalValueError(f"a block of samples must be one-dimensional; got shape {x.shape}")
+        x = validate.block(block)
         L = self.chunk_length
         c = self._carry.size
         if c + x.size < L:
@@ -676,6 +533,45 @@ class VoiceReservoir:
 
     def result(self, *, min_level_dbfs: Optional[float] = None) -> VoiceResult:
         """F0 range of the kept chunks (does not change the reservoir).
+
+        Estimator, on the stored chunks:
+
+        1. *Analysis band.*  One FFT of each chunk gives, by keeping the bins below 4 kHz, the
+           chunk resampled to about 8 kHz (F0 and the harmonics that fix it lie far below
+           4 kHz), band-limited to about 70-3500 Hz: a zero-phase 4th-order Butterworth
+           high-pass magnitude at 70 Hz takes away rumble and most of a 50/60 Hz hum
+           fundamental (YIN follows the period of the harmonics, so a voice whose fundamental is
+           missing, as on a 300-2700 Hz channel, is still measured).
+        2. *Mains hum.*  The lines of :mod:`voiceband.measurement.hum`'s rule (50/60 Hz and
+           harmonics up to 2 kHz, 12 dB over the median within +-20 Hz), found in the steady
+           (20th-percentile) chunk spectrum by :func:`~voiceband.measurement.hum.steady_mains_lines`,
+           are hum.  Each line is fitted per chunk as a steady sinusoid (frequency refined off
+           the bin grid, :func:`~voiceband.measurement.hum.subtract_line`) and subtracted, then
+           notched (+-10 Hz, smooth), so hum supplies no period in the pauses and does not
+           dominate it in the speech.  Frames that keep less than 3 % of their power in the
+           analysis band (nearly all hum, rumble or out-of-band sound) are unvoiced.
+        3. *Periodicity.*  The YIN difference function and its cumulative-mean-normalised form
+           (de Cheveigne & Kawahara, J. Acoust. Soc. Am. 111(4):1917-1930, 2002, eqs. 6-8) in
+           32 ms windows every 10 ms, 50-500 Hz.
+        4. *Candidates and voicing* by pYIN (Mauch & Dixon, "pYIN: a fundamental frequency
+           estimator using probabilistic threshold distributions", ICASSP 2014): instead of one
+           YIN threshold, a Beta(2, 18) distribution of thresholds; for each threshold the dips
+           below it get a Boltzmann prior over their order (parameter 1, see ``_BOLTZMANN``) so
+           that, as in YIN, the first dip is preferred but later ones keep some weight; summing
+           gives each dip a probability of being the period, and 1 minus their sum is the
+           probability that the frame is unvoiced.  Frames at pause level (7 dB or more below
+           the speech threshold given to :meth:`VoiceReservoir.result`) are unvoiced.
+        5. *Tracking* by pYIN's hidden Markov model, on a 1/12-octave pitch grid with voiced and
+           unvoiced copies of each pitch: F0 may move at most 0.36 octave per 10 ms frame
+           (librosa.pyin's default 35.92 octaves/s; from memory), voicing switches with
+           probability 0.01, and the Viterbi path picks the dip of each frame.  Continuity is
+           what removes most octave errors on band-limited speech, where the 2nd harmonic often
+           makes the deepest dip.
+        6. *Talker range.*  The tracking is run again with only the dips between 0.75 x the
+           first pass's lower quartile and 1.5 x its upper quartile (the two-pass floor and
+           ceiling of De Looze & Hirst 2008), which removes the remaining octave jumps.
+
+        The 5th, 50th and 95th percentiles of the voiced-frame F0 values are reported.
 
         Parameters
         ----------

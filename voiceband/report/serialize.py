@@ -45,11 +45,11 @@ def dumps_json(data: Any) -> str:
     return json.dumps(to_jsonable(data), indent=2, allow_nan=False)
 
 
-def write_json(data: Any, path: Path, *, force: bool = False) -> Path:
+def write_json(data: Any, path: Path, *, force: bool = False, make_folders: bool = False) -> Path:
     """Write JSON atomically; refuse to overwrite without ``force``."""
     from ..outputs import atomic_output
 
     text = dumps_json(data)
-    with atomic_output(path, force=force) as tmp:
+    with atomic_output(path, force=force, make_folders=make_folders) as tmp:
         tmp.write_text(text + "\n", encoding="utf-8")
     return path

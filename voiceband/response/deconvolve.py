@@ -23,8 +23,8 @@ References
 ----------
 A. Farina, AES 108th Convention, preprint 5093, 2000 (harmonic responses at −L·ln k).
 S. Müller and P. Massarani, "Transfer-function measurement with sweeps", JAES 49(6), 2001
-(spectral division, regularisation outside the band).  Both as summarised in trade-facts
-§7; the regularisation levels are this module's choice.
+(spectral division, regularisation outside the band).  The regularisation levels are this
+module's choice.
 """
 
 from __future__ import annotations
@@ -229,7 +229,7 @@ def _coarse_minimum_phase(gain: np.ndarray, fs: int) -> tuple[np.ndarray, np.nda
 
     References
     ----------
-    A. V. Oppenheim and R. W. Schafer, *Discrete-Time Signal Processing*, 3rd ed., §13.8
+    A. V. Oppenheim and R. W. Schafer, *Discrete-Time Signal Processing*, 3rd ed., section 13.8
     (homomorphic minimum-phase construction; from memory).
     """
     from scipy import fft as sfft

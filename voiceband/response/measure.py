@@ -19,6 +19,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..errors import MeasurementError, SignalValueError
+from ..findings import finding
+from ..results import Finding
 from . import align as _align
 from .deconvolve import (
     band_limit_response,
@@ -28,7 +30,7 @@ from .deconvolve import (
     window_group_delay_s,
     window_response,
 )
-from .metrics import PassbandEdges, passband_edges, passband_level_db, passband_ripple_db
+from .metrics import ResponseEdges, response_edges, passband_level_db, passband_ripple_db
 from .offset import DEFAULT_MAX_OFFSET_HZ, shift_frequency, sweep_offset, tone_offset, tone_transfer, track_tones
 from .quality import check_recording
 from .stimulus import StimulusAnalysis, active_segments, analyse_stimulus
@@ -102,7 +104,7 @@ class ResponseResult:
     passband_level_db : float
         Recording level re stimulus level at the passband peak (the chain's gain).
     passband_peak_hz : float
-    edges_hz : PassbandEdges
+    edges_hz : ResponseEdges
     ripple_db : float or None
     delay_s : float
         Time in the recording (its own clock, from its first sample) at which the stimulus's
@@ -125,8 +127,8 @@ class ResponseResult:
         orders × frequencies, each harmonic re fundamental (NaN where not measurable).
     thd_db : numpy.ndarray
         Total harmonic distortion (orders 2–5) re fundamental per input frequency.
-    findings : tuple of str
-        Plain-language notes about the measurement.
+    findings : tuple of Finding
+        Plain-language notes about the measurement (codes in :data:`voiceband.findings.FINDINGS`).
     """
 
     stimulus_kind: str
@@ -140,7 +142,7 @@ class ResponseResult:
     snr_db: np.ndarray
     passband_level_db: float
     passband_peak_hz: float
-    edges_hz: PassbandEdges
+    edges_hz: ResponseEdges
     ripple_db: float | None
     delay_s: float
     clock_ratio: float
@@ -153,7 +155,7 @@ class ResponseResult:
     thd_frequencies_hz: np.ndarray
     harmonic_levels_db: np.ndarray
     thd_db: np.ndarray
-    findings: tuple[str, ...] = field(default=())
+    findings: tuple[Finding, ...] = field(default=())
 
 
 # --------------------------------------------------------------------------- helpers
@@ -229,12 +231,12 @@ def _find_sweep(x: np.ndarray, y: np.ndarray, ana: StimulusAnalysis, fs: int) ->
     return _align.Match(lag=m.lag - seg.start, coefficient=m.coefficient)
 
 
-def _summarise(freqs: np.ndarray, mag_raw_db: np.ndarray) -> tuple[np.ndarray, float, float, PassbandEdges, float | None]:
+def _summarise(freqs: np.ndarray, mag_raw_db: np.ndarray) -> tuple[np.ndarray, float, float, ResponseEdges, float | None]:
     level, ipk = passband_level_db(freqs, mag_raw_db)
     if not np.isfinite(level):
         raise MeasurementError("No frequency of the response stands above the recording's noise.")
     mag = mag_raw_db - level
-    edges = passband_edges(freqs, mag, ipk)
+    edges = response_edges(freqs, mag, ipk)
     ripple = passband_ripple_db(freqs, mag, edges)
     return mag, level, float(freqs[ipk]), edges, ripple
 
@@ -246,17 +248,14 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     sw = ana.sweep
     assert sw is not None
     seg = sw.segment
-    findings: list[str] = []
+    findings: list[Finding] = []
     top = min(sw.stop_hz * 2.0 ** (-1.0 / 12.0), 0.45 * min(fs, fs_rec))
     band = (sw.start_hz * 2.0 ** (1.0 / 3.0), top)
     if band[1] <= 1.2 * band[0]:
         raise MeasurementError("The sweep's band lies above what the recording's sample rate can hold.")
     anchors = ana.anchors
     if len(anchors) < 2:
-        findings.append(
-            "The sweep has no start and stop markers, so the clock ratio was not measured (1.0 assumed); "
-            "clock drift would show in the phase and group delay."
-        )
+        findings.append(finding("sweep_without_markers"))
     margin = int(0.02 * fs)
     xs = x[seg.start - margin if seg.start >= margin else 0: seg.stop + margin]
     xs_start = max(seg.start - margin, 0)
@@ -277,7 +276,7 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
         except MeasurementError:
             # Too little of the sweep in the passband to read its frequency track: the
             # response can still be measured, the offset cannot.
-            findings.append("Too little of the sweep lies in the passband to check for a carrier offset.")
+            findings.append(finding("offset_not_checked"))
             break
         if not corrected:
             if abs(est.frequency_offset_hz) < max(SWEEP_OFFSET_RESOLUTION_HZ, 4.0 * est.stderr_hz):
@@ -293,15 +292,9 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
         if corrected and abs(est.frequency_offset_hz) < 0.05:
             break
     if len(anchors) >= 2 and al.anchors_used < 2:
-        findings.append(
-            "Only one of the sweep's markers was found in the recording, so the clock ratio was not "
-            "measured (1.0 assumed)."
-        )
+        findings.append(finding("one_marker_found"))
     if corrected:
-        findings.append(
-            f"Carrier offset of {shift_hz:+.1f} Hz detected from the sweep's frequency track and removed "
-            "before deconvolution; phase is not reported (the carrier phase is unknown)."
-        )
+        findings.append(finding("carrier_offset_sweep", offset_hz=shift_hz))
 
     tail = int(round((ir_window_s + 0.05) * fs))
     ys = _take(z, origin + xs_start, xs.size + tail)
@@ -328,11 +321,11 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
             snr = 10.0 * np.log10(np.abs(h1) ** 2 / n1)
         low = snr < 0.0
         if np.any(low):
-            findings.append(f"{int(np.count_nonzero(low))} of {freqs.size} frequencies lie below the noise and are left out.")
+            findings.append(finding("points_below_noise", count=int(np.count_nonzero(low)), total=freqs.size))
         mag_raw = np.where(low, np.nan, mag_raw)
     else:
         snr = np.full(freqs.size, np.nan)
-        findings.append("The recording has no quiet stretch of 0.1 s, so the noise floor and SNR are unknown.")
+        findings.append(finding("no_quiet_stretch"))
     mag, level, peak_hz, edges, ripple = _summarise(freqs, mag_raw)
     phase = np.degrees(np.angle(h1))
     if corrected:
@@ -438,7 +431,7 @@ def _measure_tones(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     tones = ana.tones
     assert tones is not None
     span = ana.span
-    findings: list[str] = []
+    findings: list[Finding] = []
     found = _align.energy_match(x[span.start:span.stop], y1, fs)
     coarse = _align.Match(lag=found.lag - span.start, coefficient=found.coefficient)
     # Steady tones give no landmark inside them, so a recording that caught only part of
@@ -460,7 +453,7 @@ def _measure_tones(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
             f"±{100.0 * _align.MAX_CLOCK_ERROR:g} %; check that both files state their true sample rates."
         )
     if off.clock_ratio is None:
-        findings.append("The clock ratio was not measured (fewer than three tones spanning half an octave); 1.0 assumed.")
+        findings.append(finding("tones_clock_not_measured"))
     resolution = max(TONE_OFFSET_RESOLUTION_HZ, 4.0 * off.stderr_hz)
     corrected = abs(off.frequency_offset_hz) >= resolution
     z = _align.correct_clock(y1, ratio)
@@ -484,10 +477,7 @@ def _measure_tones(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
         phase = np.full(freqs.size, np.nan)
         gd = np.full(freqs.size, np.nan)
         spread = float(np.nanmax(trk.offset_track_hz) - np.nanmin(trk.offset_track_hz)) if np.any(np.isfinite(trk.offset_track_hz)) else None
-        findings.append(
-            f"Carrier offset of {off.frequency_offset_hz:+.2f} Hz detected from the tones; each tone was tracked "
-            "at its shifted frequency, and phase is not reported (the carrier phase is unknown)."
-        )
+        findings.append(finding("carrier_offset_tones", offset_hz=off.frequency_offset_hz))
     else:
         hc = tone_transfer(xs, zs, fs, tones)
         phase = np.degrees(np.angle(hc))
@@ -504,7 +494,7 @@ def _measure_tones(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
         harmonics = _single_tone_harmonics(zs, fs, float(freqs[0]), off.frequency_offset_hz if corrected else 0.0, 0.45 * min(fs, fs_rec))
     else:
         harmonics = [HarmonicLevel(k, None) for k in HARMONIC_ORDERS]
-        findings.append("Harmonic distortion is not separable with several tones (their harmonics and intermodulation overlap); use a sweep.")
+        findings.append(finding("tones_harmonics_not_separable"))
     return ResponseResult(
         stimulus_kind="tones",
         sample_rate_hz=fs,

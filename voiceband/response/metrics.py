@@ -18,7 +18,7 @@ References
 −3 dB band edges relative to the passband peak, and passband ripple as the
 peak-to-valley variation of an equiripple passband, are textbook filter definitions
 (e.g. A. V. Oppenheim and R. W. Schafer, *Discrete-Time Signal Processing*, 3rd ed.,
-§7.2; from memory).
+section 7.2; from memory).
 """
 
 from __future__ import annotations
@@ -27,14 +27,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["PassbandEdges", "passband_level_db", "passband_edges", "passband_ripple_db", "RIPPLE_PROMINENCE_DB"]
+__all__ = ["ResponseEdges", "passband_level_db", "response_edges", "passband_ripple_db", "RIPPLE_PROMINENCE_DB"]
 
 #: Smallest peak prominence counted as ripple (dB).
 RIPPLE_PROMINENCE_DB = 0.1
 
 
 @dataclass(frozen=True)
-class PassbandEdges:
+class ResponseEdges:
     """Passband edges in Hz; None where the response does not fall that far inside the measured band."""
 
     low_3db: float | None
@@ -79,7 +79,7 @@ def _crossing(f: np.ndarray, m: np.ndarray, start: int, step: int, level: float)
     return None
 
 
-def passband_edges(frequencies_hz: np.ndarray, magnitude_db: np.ndarray, peak_index: int) -> PassbandEdges:
+def response_edges(frequencies_hz: np.ndarray, magnitude_db: np.ndarray, peak_index: int) -> ResponseEdges:
     """−3 dB and −10 dB edges of a magnitude already normalised to its passband level.
 
     From ``peak_index`` the response is followed down and up in frequency to its first
@@ -87,7 +87,7 @@ def passband_edges(frequencies_hz: np.ndarray, magnitude_db: np.ndarray, peak_in
     """
     f = np.asarray(frequencies_hz, dtype=np.float64)
     m = np.asarray(magnitude_db, dtype=np.float64)
-    return PassbandEdges(
+    return ResponseEdges(
         low_3db=_crossing(f, m, peak_index, -1, -3.0),
         high_3db=_crossing(f, m, peak_index, +1, -3.0),
         low_10db=_crossing(f, m, peak_index, -1, -10.0),
@@ -95,7 +95,7 @@ def passband_edges(frequencies_hz: np.ndarray, magnitude_db: np.ndarray, peak_in
     )
 
 
-def passband_ripple_db(frequencies_hz: np.ndarray, magnitude_db: np.ndarray, edges: PassbandEdges) -> float | None:
+def passband_ripple_db(frequencies_hz: np.ndarray, magnitude_db: np.ndarray, edges: ResponseEdges) -> float | None:
     """Peak-to-valley ripple between the outermost peaks inside the −3 dB passband.
 
     The passband runs from ``edges.low_3db`` to ``edges.high_3db`` (or to the ends of the

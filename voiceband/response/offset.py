@@ -18,11 +18,11 @@ is smeared by it, so the offset is detected first:
 
 References
 ----------
-Trade-facts §7 ("SSB link shifts every audio frequency by the carrier offset … estimate
-Δf first (pilot tone) or use stepped sine / multitone with per-tone frequency tracking",
-common practice).  Single-sideband frequency shifting with the analytic signal (Hilbert
+An SSB link shifts every audio frequency by the carrier offset (a shift, not a scaling):
+estimate it first (pilot tone), or use stepped tones / a multitone with per-tone frequency
+tracking (common practice).  Single-sideband frequency shifting with the analytic signal (Hilbert
 transform): A. V. Oppenheim and R. W. Schafer, *Discrete-Time Signal Processing*, 3rd
-ed., §12.4 (from memory).
+ed., section 12.4 (from memory).
 """
 
 from __future__ import annotations
@@ -47,7 +47,7 @@ __all__ = [
     "DEFAULT_MAX_OFFSET_HZ",
 ]
 
-#: Largest carrier offset searched for (Hz); trade-facts §7 gives ±5–50 Hz as typical.
+#: Largest carrier offset searched for (Hz); ±5–50 Hz is typical of SSB links (common practice).
 DEFAULT_MAX_OFFSET_HZ = 150.0
 #: A tone counts as received when its peak stands this far above the local noise floor.
 _TONE_SNR_DB = 20.0

@@ -1,4 +1,4 @@
-"""The synthetic corpus: spec files (TOML), rendering, WAV output and the manifest.
+"""The synthetic corpus: spec files (TOML), rendering, the manifest; files written through :mod:`voiceband.audio`.
 
 A spec file describes one recording and says what it exercises::
 
@@ -24,7 +24,7 @@ Stage keys
 ----------
 ``white``, ``pink``
     ``level_dbfs`` (RMS) or ``snr_db`` (noise RMS = the speech's P.56 active level − snr_db,
-    the active-speech SNR of trade-facts §6.3).
+    the active-speech SNR of ITU-T test practice; from memory).
 ``hiss``
     As above, plus ``low_hz``, ``high_hz`` (Butterworth passband edges) and ``order``.
 ``hum``
@@ -34,6 +34,7 @@ Stage keys
     ``peak_dbfs``, ``rate_per_s``, ``decay_s``.
 ``bandpass`` / ``highpass`` / ``lowpass``
     Butterworth (causal): ``low_hz`` and ``high_hz`` / ``cutoff_hz``; ``order`` (default 4).
+    These and ``clip`` and ``gain`` are the stages of :mod:`voiceband.chain`.
 ``clip``
     Symmetric hard clipping at ``level_dbfs`` (sample peak, e.g. −6 for clipping below full
     scale).
@@ -48,15 +49,14 @@ duration, sample format, generator version and the SHA-256 of the file's bytes.
 
 from __future__ import annotations
 
-import hashlib
 import os
-import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable, Iterable, Union
 
 import numpy as np
 
+from .. import validate
 from ..errors import ChainFileError, SignalValueError
 
 __all__ = [
@@ -68,7 +68,8 @@ __all__ = [
     "render",
     "generate",
     "verify",
-    "file_sha256",
+    "render_entry",
+    "manifest_document",
     "default_spec_paths",
 ]
 
@@ -216,8 +217,12 @@ def read_spec(path: Union[str, os.PathLike]) -> CorpusSpec:
     if Path(output).name != output or Path(output).suffix.lower() not in (".wav", ".flac"):
         raise ChainFileError(f"{w}: 'output' must be a plain .wav or .flac file name, got {output!r}.")
     fs = _whole(data, "sample_rate_hz", w, required=True)
-    if not 8000 <= fs <= 192000:
-        raise ChainFileError(f"{w}: 'sample_rate_hz' must be 8000–192000 Hz, got {fs}.")
+    try:
+        validate.sample_rate_hz(fs)
+    except SignalValueError:
+        raise ChainFileError(
+            f"{w}: 'sample_rate_hz' must be {validate.MIN_SAMPLE_RATE_HZ}–{validate.MAX_SAMPLE_RATE_HZ} Hz, "
+            f"got {fs}.") from None
     duration = _number(data, "duration_s", w, required=True)
     if not 1.0 <= duration <= 600.0:
         raise ChainFileError(f"{w}: 'duration_s' must be 1–600 s, got {duration:g}.")
@@ -321,8 +326,7 @@ def render(spec: CorpusSpec) -> np.ndarray:
         A stage's values are rejected by its generator, or the result exceeds full scale
         (lower a level or add a ``clip`` stage).
     """
-    from scipy import signal
-
+    from ..chain import Clipper, Filter, Gain
     from . import noise
     from .speech import synthesize_speech
 
@@ -366,19 +370,14 @@ def render(spec: CorpusSpec) -> np.ndarray:
                     )
                 x = x + add[:n]
             elif kind in ("bandpass", "highpass", "lowpass"):
-                order = int(o.get("order", 4))
-                if kind == "bandpass":
-                    if not o["low_hz"] < o["high_hz"]:
-                        raise ChainFileError(f"{ws}: 'low_hz' must be below 'high_hz'.")
-                    sos = signal.butter(order, [o["low_hz"], o["high_hz"]], btype="bandpass", fs=fs, output="sos")
-                else:
-                    sos = signal.butter(order, o["cutoff_hz"], btype=kind, fs=fs, output="sos")
-                x = signal.sosfilt(sos, x)
+                if kind == "bandpass" and not o["low_hz"] < o["high_hz"]:
+                    raise ChainFileError(f"{ws}: 'low_hz' must be below 'high_hz'.")
+                x = Filter(kind=kind, order=int(o.get("order", 4)), cutoff_hz=o.get("cutoff_hz"),
+                           low_hz=o.get("low_hz"), high_hz=o.get("high_hz")).process(x, fs)
             elif kind == "clip":
-                c = 10.0 ** (o["level_dbfs"] / 20.0)
-                x = np.clip(x, -c, c)
+                x = Clipper(mode="hard", level_dbfs=o["level_dbfs"]).process(x, fs)
             else:
-                x = x * 10.0 ** (o["gain_db"] / 20.0)
+                x = Gain.from_db(o["gain_db"]).process(x, fs)
         except SignalValueError as exc:
             raise ChainFileError(f"{ws}: {exc}") from None
     peak = float(np.max(np.abs(x)))
@@ -393,27 +392,21 @@ def render(spec: CorpusSpec) -> np.ndarray:
 # --------------------------------------------------------------------------- files
 
 
-def file_sha256(path: Union[str, os.PathLike]) -> str:
-    """SHA-256 of a file's bytes, as 64 hex digits."""
-    h = hashlib.sha256()
-    with open(path, "rb") as f:
-        for chunk in iter(lambda: f.read(1 << 20), b""):
-            h.update(chunk)
-    return h.hexdigest()
-
-
 def default_spec_paths(folder: Union[str, os.PathLike] = "corpus_synthetic") -> list[Path]:
     """All ``*.toml`` spec files in ``folder``, sorted by name."""
     return sorted(Path(folder).glob("*.toml"))
 
 
-def _write_one(spec: CorpusSpec, path: Path, *, force: bool) -> ManifestEntry:
-    from ..audio import write
+def render_entry(spec: CorpusSpec) -> tuple[np.ndarray, ManifestEntry]:
+    """The samples of ``spec`` and its manifest entry, whose SHA-256 is that of the bytes
+    :func:`voiceband.audio.write` writes for them (computed in memory; nothing is written)."""
+    import hashlib
+
+    from ..audio import encode
 
     x = render(spec)
     subtype = _SUBTYPES[spec.bits]
-    write(path, x, spec.sample_rate_hz, subtype=subtype, force=force)
-    return ManifestEntry(
+    entry = ManifestEntry(
         file=spec.output,
         spec=Path(spec.path).name,
         description=spec.description,
@@ -423,8 +416,19 @@ def _write_one(spec: CorpusSpec, path: Path, *, force: bool) -> ManifestEntry:
         frames=int(x.size),
         subtype=subtype,
         generator_version=GENERATOR_VERSION,
-        sha256=file_sha256(path),
+        sha256=hashlib.sha256(encode(spec.output, x, spec.sample_rate_hz, subtype=subtype)).hexdigest(),
     )
+    return x, entry
+
+
+def manifest_document(entries: dict[str, Any]) -> dict:
+    """The ``manifest.json`` document for ``entries`` (file name -> :class:`ManifestEntry`, or the
+    entry as read from an earlier manifest), sorted by file name."""
+    return {
+        "generator": "voiceband synth",
+        "generator_version": GENERATOR_VERSION,
+        "files": [entries[k] for k in sorted(entries)],
+    }
 
 
 def _read_specs(spec_paths: Iterable[Union[str, os.PathLike]]) -> list[CorpusSpec]:
@@ -473,6 +477,7 @@ def generate(
     OutputExistsError
         A WAV or the manifest exists and ``force`` is false.
     """
+    from ..audio import write
     from ..outputs import check_writable
     from ..report.serialize import write_json
 
@@ -482,22 +487,18 @@ def generate(
         raise ChainFileError(f"'{out}' is a file; --out needs a folder.")
     manifest_path = out / MANIFEST_NAME
     for s in specs:
-        check_writable(out / s.output, force=force)
-    check_writable(manifest_path, force=force)
+        check_writable(out / s.output, force=force, make_folders=True)
+    check_writable(manifest_path, force=force, make_folders=True)
     entries = _load_manifest(manifest_path)
     written = []
     for s in specs:
-        e = _write_one(s, out / s.output, force=force)
+        x, e = render_entry(s)
+        write(out / s.output, x, s.sample_rate_hz, subtype=e.subtype, force=force, make_folders=True)
         entries[e.file] = e
         written.append(e)
         if progress is not None:
             progress(e)
-    manifest = {
-        "generator": "voiceband synth",
-        "generator_version": GENERATOR_VERSION,
-        "files": [entries[k] for k in sorted(entries)],
-    }
-    write_json(manifest, manifest_path, force=True)
+    write_json(manifest_document(entries), manifest_path, force=True, make_folders=True)
     return written
 
 
@@ -505,7 +506,7 @@ def verify(
     spec_paths: Iterable[Union[str, os.PathLike]],
     manifest_path: Union[str, os.PathLike],
 ) -> list[tuple[str, str | None, str]]:
-    """Regenerate each spec in a temporary folder and compare its hash with the manifest.
+    """Regenerate each spec in memory and compare its hash with the manifest (writes nothing).
 
     Returns
     -------
@@ -517,9 +518,8 @@ def verify(
         raise ChainFileError(f"No manifest at '{mp}'.")
     entries = _load_manifest(mp)
     out = []
-    with tempfile.TemporaryDirectory(prefix="voiceband-synth-") as tmp:
-        for s in specs:
-            e = _write_one(s, Path(tmp) / s.output, force=False)
-            recorded = entries.get(s.output)
-            out.append((s.output, None if recorded is None else str(recorded.get("sha256")), e.sha256))
+    for s in specs:
+        e = render_entry(s)[1]
+        recorded = entries.get(s.output)
+        out.append((s.output, None if recorded is None else str(recorded.get("sha256")), e.sha256))
     return out

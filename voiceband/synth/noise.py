@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .. import validate
 from ..errors import SignalValueError
 
 __all__ = [
@@ -22,20 +23,14 @@ __all__ = [
 
 #: Default hum harmonic levels, dB re the fundamental, for harmonics 1, 2, 3, 4, 5.
 #: An illustrative pattern (common practice): a strong 2nd harmonic from full-wave rectifier
-#: ripple and odd harmonics from transformer magnetisation (trade-facts §6.1); not a
+#: ripple and odd harmonics from transformer magnetisation; not a
 #: measured or standardised spectrum.
 DEFAULT_HUM_HARMONICS_DB = (0.0, -3.0, -10.0, -16.0, -20.0)
 
 
 def _check(duration_s: float, sample_rate_hz: int) -> int:
-    if not isinstance(sample_rate_hz, (int, np.integer)) or isinstance(sample_rate_hz, bool):
-        raise SignalValueError(f"sample_rate_hz must be a whole number of hertz, got {sample_rate_hz!r}.")
-    if not 1000 <= int(sample_rate_hz) <= 768000:
-        raise SignalValueError(f"sample_rate_hz must be 1000–768000 Hz, got {sample_rate_hz}.")
-    d = float(duration_s)
-    if not np.isfinite(d) or d <= 0.0 or d > 3600.0:
-        raise SignalValueError(f"duration_s must be more than 0 and at most 3600 s, got {duration_s}.")
-    n = int(round(d * sample_rate_hz))
+    fs = validate.sample_rate_hz(sample_rate_hz)
+    n = validate.duration_samples(duration_s, fs, maximum_s=3600.0)
     if n < 2:
         raise SignalValueError(f"duration_s = {duration_s} s gives fewer than two samples.")
     return n
@@ -161,7 +156,7 @@ def mains_hum(
     Parameters
     ----------
     mains_hz : float
-        Mains frequency, 40–70 Hz (50 or 60 Hz in practice; trade-facts §6.1).
+        Mains frequency, 40–70 Hz (50 or 60 Hz in practice, IEC 60038:2009).
     harmonics_db : sequence of float
         Level of harmonic 1, 2, 3 … in dB re the fundamental (the first entry is the
         fundamental itself and is normally 0).  Harmonics at or above Nyquist are left out.

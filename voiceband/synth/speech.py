@@ -25,7 +25,7 @@ Calibration
     voices keep their natural long-term difference, :data:`VOICE_DEVIATION_DB`.
 Level
     The result is scaled to an ITU-T P.56 (method B) active speech level, by default
-    −26 dBFS (common practice for narrowband test material; trade-facts §3.1).
+    −26 dBFS (common practice for narrowband test material, ITU-T G.191 / P.800-series; from memory).
 
 Synthesis runs at the output rate when it is at least 32 kHz, otherwise at the smallest
 integer multiple of it that is, followed by decimation, so the spectrum below 8 kHz does
@@ -38,6 +38,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .. import validate
 from ..errors import SignalValueError
 from ..intelligibility.tables import band_procedure
 
@@ -59,7 +60,7 @@ __all__ = [
 ]
 
 #: P.56 active speech level of the output, dBFS (0 dBFS = full-scale square wave RMS).
-#: −26 dBov is the usual level for narrowband test material (trade-facts §3.1, from memory).
+#: −26 dBov is the usual level for narrowband test material (ITU-T G.191 practice, from memory).
 DEFAULT_ACTIVE_LEVEL_DBFS = -26.0
 
 #: One-third-octave band centres of ANSI S3.5-1997 Table 3, Hz (the calibration bands).
@@ -676,8 +677,8 @@ def synthesize_speech_raw(
     Same arguments as :func:`synthesize_speech`; the level is arbitrary.  Used to derive
     :data:`CALIBRATION_DB` and to report what the equaliser corrects.
     """
-    fs_out = _check_rate(sample_rate_hz)
-    n_out = _check_duration(duration_s, fs_out)
+    fs_out = validate.sample_rate_hz(sample_rate_hz)
+    n_out = validate.duration_samples(duration_s, fs_out, minimum_s=1.0, maximum_s=3600.0)
     _check_choice(voice, VOICES, "voice")
     _check_choice(effort, EFFORTS, "effort")
     if not isinstance(seed, (int, np.integer)) or isinstance(seed, bool) or seed < 0:
@@ -714,21 +715,6 @@ def synthesize_speech_raw(
     if factor > 1:
         y = signal.resample_poly(y, 1, factor)[:n_out]
     return y
-
-
-def _check_rate(sample_rate_hz) -> int:
-    if not isinstance(sample_rate_hz, (int, np.integer)) or isinstance(sample_rate_hz, bool):
-        raise SignalValueError(f"sample_rate_hz must be a whole number of hertz, got {sample_rate_hz!r}.")
-    if not 8000 <= int(sample_rate_hz) <= 192000:
-        raise SignalValueError(f"sample_rate_hz must be 8000–192000 Hz, got {sample_rate_hz}.")
-    return int(sample_rate_hz)
-
-
-def _check_duration(duration_s, fs: int) -> int:
-    d = float(duration_s)
-    if not np.isfinite(d) or d < 1.0 or d > 3600.0:
-        raise SignalValueError(f"duration_s must be from 1 to 3600 s, got {duration_s}.")
-    return int(round(d * fs))
 
 
 def calibration_fir(gains_db, sample_rate_hz: int) -> np.ndarray:

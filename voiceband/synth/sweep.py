@@ -21,7 +21,7 @@ References
 ----------
 A. Farina, "Simultaneous measurement of impulse response and distortion with a
 swept-sine technique", AES 108th Convention, preprint 5093, 2000 (formula and
-inverse filter as summarised in trade-facts §7).
+inverse filter; from memory).
 """
 
 from __future__ import annotations
@@ -30,6 +30,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .. import validate
 from ..errors import SignalValueError
 
 __all__ = [
@@ -45,7 +46,7 @@ __all__ = [
 ]
 
 #: Band of the marker chirps (Hz), chosen inside every voice channel (300–3000 Hz,
-#: trade-facts §2; common practice), then clipped to the sweep's own band.
+#: common practice), then clipped to the sweep's own band.
 MARKER_BAND_HZ = (400.0, 2800.0)
 #: Length of each marker chirp (s).
 MARKER_DURATION_S = 0.1
@@ -108,16 +109,12 @@ class SweepSignal:
 
 
 def sweep_rate_constant_s(start_hz: float, stop_hz: float, duration_s: float) -> float:
-    """L = T / ln(f2/f1) of an exponential sweep (Farina 2000; trade-facts §7)."""
+    """L = T / ln(f2/f1) of an exponential sweep (Farina 2000, AES preprint 5093)."""
     return float(duration_s) / float(np.log(float(stop_hz) / float(start_hz)))
 
 
 def _check_inputs(start_hz, stop_hz, duration_s, sample_rate_hz, level_dbfs) -> tuple[float, float, float, int, float]:
-    if not isinstance(sample_rate_hz, (int, np.integer)) or isinstance(sample_rate_hz, bool):
-        raise SignalValueError(f"sample_rate_hz must be a whole number of hertz, got {sample_rate_hz!r}.")
-    fs = int(sample_rate_hz)
-    if not 8000 <= fs <= 192000:
-        raise SignalValueError(f"sample_rate_hz must be 8000–192000 Hz, got {fs}.")
+    fs = validate.sample_rate_hz(sample_rate_hz)
     f1 = float(start_hz)
     f2 = float(stop_hz)
     if not np.isfinite(f1) or f1 <= 0.0:
@@ -220,7 +217,7 @@ def exponential_sweep(
     References
     ----------
     Farina (2000), AES preprint 5093: x(t) = sin[2π f1 L (e^{t/L} − 1)], L = T/ln(f2/f1)
-    (trade-facts §7).  The half-raised-cosine fades over the first 1/6 and the last 1/24
+    (from memory).  The half-raised-cosine fades over the first 1/6 and the last 1/24
     octave are common practice.
     """
     f1, f2, t_s, fs, lv = _check_inputs(start_hz, stop_hz, duration_s, sample_rate_hz, level_dbfs)
@@ -281,8 +278,8 @@ def inverse_filter(sweep: SweepSignal) -> np.ndarray:
 
     References
     ----------
-    Farina (2000), AES preprint 5093; trade-facts §7 ("time-reversed sweep with an
-    envelope falling 6 dB/oct").
+    Farina (2000), AES preprint 5093: the time-reversed sweep with an envelope falling
+    6 dB/octave (from memory).
     """
     s = np.asarray(sweep.sweep, dtype=np.float64)
     n = s.size

@@ -14,6 +14,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .. import validate
+from ..bands import third_octave_bands
 from ..errors import SignalValueError
 
 __all__ = [
@@ -31,7 +33,7 @@ __all__ = [
 ]
 
 #: Two equal tones for an SSB (A3J/J3E) transmitter with a 3.0 kHz authorised bandwidth
-#: (47 CFR 2.1049; trade-facts §1.5).  The same section gives 500 + 2100 Hz (3.5 kHz) and
+#: (47 CFR 2.1049).  The same section gives 500 + 2100 Hz (3.5 kHz) and
 #: 500 + 2400 Hz (4.0 kHz).
 SSB_TWO_TONE_HZ = (400.0, 1800.0)
 #: Reference (alignment) tone frequency, common practice.
@@ -87,24 +89,6 @@ class SteppedTones:
 
 
 # --------------------------------------------------------------------------- validation
-
-
-def _check_rate(sample_rate_hz: int) -> int:
-    if not isinstance(sample_rate_hz, (int, np.integer)) or isinstance(sample_rate_hz, bool):
-        raise SignalValueError(f"sample_rate_hz must be a whole number of hertz, got {sample_rate_hz!r}.")
-    if not 1000 <= int(sample_rate_hz) <= 768000:
-        raise SignalValueError(f"sample_rate_hz must be 1000–768000 Hz, got {sample_rate_hz}.")
-    return int(sample_rate_hz)
-
-
-def _check_duration(duration_s: float, sample_rate_hz: int) -> int:
-    d = float(duration_s)
-    if not np.isfinite(d) or d <= 0.0 or d > 3600.0:
-        raise SignalValueError(f"duration_s must be more than 0 and at most 3600 s, got {duration_s}.")
-    n = int(round(d * sample_rate_hz))
-    if n < 1:
-        raise SignalValueError(f"duration_s = {duration_s} s is shorter than one sample.")
-    return n
 
 
 def _check_peak(peak_dbfs: float) -> float:
@@ -166,7 +150,7 @@ def schroeder_phases(n_tones: int) -> np.ndarray:
     References
     ----------
     M. R. Schroeder, "Synthesis of low-peak-factor signals and binary sequences with low
-    autocorrelation", IEEE Trans. Inf. Theory IT-16, 1970 (from memory); trade-facts §7.
+    autocorrelation", IEEE Trans. Inf. Theory IT-16, 1970 (from memory).
     """
     k = np.arange(1, int(n_tones) + 1, dtype=np.float64)
     return -np.pi * k * k / float(n_tones)
@@ -206,16 +190,16 @@ def multitone(
     Returns
     -------
     TestSignal
-        With ``crest_factor_db``: about 5.5 dB for 28 tones 300–3000 Hz (trade-facts §7),
-        17.5 dB for zero phases.
+        With ``crest_factor_db``: about 5.5 dB for 28 tones 300–3000 Hz (computed),
+        17.5 dB (10 log10 2K) for zero phases.
 
     Raises
     ------
     SignalValueError
         Bad duration, rate, level, band or tone count.
     """
-    fs = _check_rate(sample_rate_hz)
-    n = _check_duration(duration_s, fs)
+    fs = validate.sample_rate_hz(sample_rate_hz)
+    n = validate.duration_samples(duration_s, fs, maximum_s=3600.0)
     peak = _check_peak(peak_dbfs)
     k = int(n_tones)
     if k != n_tones or k < 2 or k > 10000:
@@ -244,7 +228,7 @@ def two_tone(
 
     The two cosines start in phase, so the peak equals twice each tone's amplitude: each
     tone sits 6.02 dB below ``peak_dbfs``.  The envelope's peak-to-average power ratio is
-    3.01 dB (PEP = 2 × average power; trade-facts §3.3).
+    3.01 dB (PEP = 2 × average power; computed).
 
     Parameters
     ----------
@@ -258,8 +242,8 @@ def two_tone(
     SignalValueError
         Bad duration, rate, level, or tone frequencies (two distinct, below Nyquist).
     """
-    fs = _check_rate(sample_rate_hz)
-    n = _check_duration(duration_s, fs)
+    fs = validate.sample_rate_hz(sample_rate_hz)
+    n = validate.duration_samples(duration_s, fs, maximum_s=3600.0)
     peak = _check_peak(peak_dbfs)
     f = _check_freqs(tones_hz, fs, "tones_hz")
     if f.size != 2 or f[0] == f[1]:
@@ -285,8 +269,8 @@ def reference_tone(
     SignalValueError
         Bad duration, rate, level or frequency.
     """
-    fs = _check_rate(sample_rate_hz)
-    n = _check_duration(duration_s, fs)
+    fs = validate.sample_rate_hz(sample_rate_hz)
+    n = validate.duration_samples(duration_s, fs, maximum_s=3600.0)
     peak = _check_peak(peak_dbfs)
     f = _check_freqs(frequency_hz, fs, "frequency_hz")
     if f.size != 1:
@@ -298,16 +282,15 @@ def reference_tone(
 
 
 def third_octave_step_frequencies_hz(sample_rate_hz: int, *, low_hz: float = 100.0, high_hz: float = 8000.0) -> np.ndarray:
-    """Nominal one-third-octave centres (IEC 61260 preferred numbers, from memory) in
+    """Nominal one-third-octave centres (IEC 61260-1:2014 Annex E, :mod:`voiceband.bands`) in
     ``[low_hz, high_hz]`` and below 0.45 × the sample rate: a default frequency list for
-    :func:`stepped_tones`."""
-    nominal = np.array(
-        [20, 25, 31.5, 40, 50, 63, 80, 100, 125, 160, 200, 250, 315, 400, 500, 630, 800, 1000,
-         1250, 1600, 2000, 2500, 3150, 4000, 5000, 6300, 8000, 10000, 12500, 16000, 20000],
-        dtype=np.float64,
-    )
-    keep = (nominal >= low_hz) & (nominal <= high_hz) & (nominal < 0.45 * sample_rate_hz)
-    return nominal[keep]
+    :func:`stepped_tones`.
+
+    >>> third_octave_step_frequencies_hz(8000, low_hz=1000).tolist()
+    [1000.0, 1250.0, 1600.0, 2000.0, 2500.0, 3150.0]
+    """
+    nominal = np.array(third_octave_bands(low_hz=low_hz, high_hz=high_hz).nominal_hz)
+    return nominal[nominal < 0.45 * sample_rate_hz]
 
 
 def stepped_tones(
@@ -334,7 +317,7 @@ def stepped_tones(
     SignalValueError
         No frequencies, a frequency at or above Nyquist, or a non-positive dwell.
     """
-    fs = _check_rate(sample_rate_hz)
+    fs = validate.sample_rate_hz(sample_rate_hz)
     peak = _check_peak(peak_dbfs)
     f = _check_freqs(frequencies_hz, fs, "frequencies_hz")
     if not np.isfinite(dwell_s) or dwell_s <= 0.0 or dwell_s > 600.0:
