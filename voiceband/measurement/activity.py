@@ -306,8 +306,8 @@ class ActivityAccumulator:
         self.mean_square_sums = np.zeros(LEVEL_BIN_COUNT)
 
     def update_frames(self, block):
-        """Add a block; return its new frames, their level bins, the first frame's index, and
-        the block as float32.
+        """Add a block; return its new frames, their level bins, the first frame's index, the
+        block as float32, and the frames' mean squares (DC excluded).
 
         ``frames`` (read-only) and the float32 block are views valid until the next call.
         Used by :class:`voiceband.analysis.RecordingAccumulator` to share the framing and
@@ -319,7 +319,7 @@ class ActivityAccumulator:
         if bins.size:
             self.counts += np.bincount(bins, minlength=LEVEL_BIN_COUNT)
             self.mean_square_sums += np.bincount(bins, weights=ms, minlength=LEVEL_BIN_COUNT)
-        return frames, bins, first, x32
+        return frames, bins, first, x32, ms
 
     def update(self, block) -> None:
         """Add the next block of samples (1-D, any length >= 1)."""

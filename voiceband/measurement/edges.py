@@ -137,15 +137,14 @@ def _reference_db(grid_hz: np.ndarray, effort_index: Optional[float]) -> tuple[n
     from ..reference_spectra import effort_band_levels_db, reference_band_levels_db
 
     if effort_index is None:
-        bands, level = reference_band_levels_db("byrne1994")
+        levels = reference_band_levels_db("byrne1994")
         label = "byrne1994"
     else:
-        bands, level = effort_band_levels_db(float(effort_index))
+        levels = effort_band_levels_db(float(effort_index))
         label = f"ansi_s3.5 effort {float(effort_index):.2f} (fitted)"
-    from ..bands import exact_centre_hz
-
-    centre = exact_centre_hz(np.asarray(bands, dtype=float))
-    spectrum = np.asarray(level, dtype=float) - 10.0 * np.log10(centre * (10 ** 0.05 - 10 ** -0.05))
+    sp = levels.as_spectrum()
+    centre = np.asarray(sp.bands.centre_hz, dtype=float)
+    spectrum = np.asarray(sp.levels_db, dtype=float)
     return np.interp(np.log2(grid_hz), np.log2(centre), spectrum), label
 
 

@@ -235,3 +235,15 @@ def speech_band_power(all_band_power, noise_band_power, activity: float) -> np.n
     floor = nz * 10.0 ** (SPEECH_FLOOR_DB_RE_NOISE / 10.0)
     s = (p - nz) / float(activity)
     return np.maximum(s, floor)
+
+
+def noise_psd_at_level(noise_psd, freqs_hz, noise_power_fs2: float) -> np.ndarray:
+    """The pause spectrum's shape scaled so that its power (DC bin left out, as the frame
+    powers leave out the frame mean) equals the measured noise power."""
+    p = np.asarray(noise_psd, dtype=float)
+    f = np.asarray(freqs_hz, dtype=float)
+    df = f[1] - f[0]
+    total = float(np.sum(p[1:]) * df)
+    if total <= 0:
+        return p.copy()
+    return p * (float(noise_power_fs2) / total)

@@ -156,3 +156,50 @@ def is_mains_comb(harmonics_hz: Sequence[float], fundamental_hz: float,
         if all(abs(r - round(r)) * t < 1.0 and round(r) >= 1 for r in ratios):
             return False
     return True
+
+
+@dataclass(frozen=True)
+class SteadyTone:
+    """A steady tone as reported: frequency, level, and what it is.
+
+    Attributes
+    ----------
+    frequency_hz : float
+    level_dbfs : float
+    kind : {"ctcss", "tone"}
+        ``"ctcss"`` when it matches a standard CTCSS tone (:func:`ctcss_tone`).
+    ctcss_hz : float or None
+        The matched standard tone.
+    """
+
+    frequency_hz: float
+    level_dbfs: float
+    kind: str
+    ctcss_hz: Optional[float]
+
+
+#: Below this frequency (Hz) tones are read from the fine low-rate spectrum when one is given.
+LOW_SPAN_TOP_HZ = 400.0
+
+
+def steady_tones(psd, freqs_hz, *, low_psd=None, low_freqs_hz=None, max_tones: int = 8) -> tuple[SteadyTone, ...]:
+    """Steady tones of a recording: lines in the pause (or steady-signal) spectrum.
+
+    Below :data:`LOW_SPAN_TOP_HZ` the lines are taken from ``low_psd`` (a long-window spectrum
+    of the quiet stretches with a fraction of a hertz resolution, enough to tell CTCSS tones
+    apart) when given; above it, and without it, from ``psd``.  Each line is matched against
+    the CTCSS list.
+    """
+    out: list[Tone] = []
+    if low_psd is not None and low_freqs_hz is not None and len(low_freqs_hz) > 16:
+        top = min(LOW_SPAN_TOP_HZ, 0.95 * float(low_freqs_hz[-1]))
+        out += list(find_tones(low_psd, low_freqs_hz, low_hz=20.0, high_hz=top, max_tones=max_tones))
+        out += list(find_tones(psd, freqs_hz, low_hz=top, max_tones=max_tones))
+    else:
+        out += list(find_tones(psd, freqs_hz, max_tones=max_tones))
+    out.sort(key=lambda t: -t.level_dbfs)
+    result = []
+    for t in out[:max_tones]:
+        c = ctcss_tone(t.frequency_hz)
+        result.append(SteadyTone(t.frequency_hz, t.level_dbfs, "ctcss" if c is not None else "tone", c))
+    return tuple(result)
