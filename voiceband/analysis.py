@@ -57,6 +57,8 @@ __all__ = [
 MIN_DURATION_S = 0.25
 #: Clip events listed one by one in the result (all are counted).
 MAX_LISTED_CLIP_EVENTS = 1000
+#: Steady tones more than this far below the recording's RMS level are not reported (dB).
+TONE_FLOOR_DB = 50.0
 #: Low end of the span the occupied bandwidth is taken over (Hz); the high end is fs/2.
 OBW_SPAN_LOW_HZ = 20.0
 
@@ -213,8 +215,10 @@ class RecordingAccumulator:
             line_psd = spectrum.speech_psd_fs2_per_hz if steady else spectrum.noise_psd_fs2_per_hz
             if line_psd is not None:
                 low = self.hum.quiet_spectrum()
+                rms = finite(lv.rms_dbfs)
                 tones = steady_tones(line_psd, freqs, low_psd=None if low is None else low[1],
-                                     low_freqs_hz=None if low is None else low[0])
+                                     low_freqs_hz=None if low is None else low[0],
+                                     min_level_dbfs=(rms - TONE_FLOOR_DB) if rms is not None else -math.inf)
             if spectrum.speech_band_db is not None:
                 try:
                     obw = occupied_bandwidth(spectrum.speech_psd_fs2_per_hz, freqs,

@@ -142,11 +142,14 @@ def is_mains_comb(harmonics_hz: Sequence[float], fundamental_hz: float,
                   tones_hz: Sequence[float] = ()) -> bool:
     """Whether detected mains harmonics form a comb that only mains hum explains.
 
-    At least two harmonics must be present, and they must not all be multiples of one
-    steady tone found on its own (a CTCSS tone of 100.0 or 150.0 Hz and its distortion
-    products sit on multiples of 50 Hz).
+    At least two harmonics must be present that are not themselves steady tones found on
+    their own (a 400 Hz test tone is the 8th harmonic of 50 Hz), and they must not all be
+    multiples of one such tone (a CTCSS tone of 100.0 or 150.0 Hz and its distortion
+    products sit on multiples of 50 Hz).  A lone line at 50 or 60 Hz is a steady tone, not
+    a measured comb.
     """
-    h = [float(v) for v in harmonics_hz]
+    h = [float(v) for v in harmonics_hz
+         if not any(abs(float(v) - t) < 1.0 and abs(t - fundamental_hz) >= 1.0 for t in tones_hz)]
     if len(h) < 2:
         return False
     for t in tones_hz:
@@ -179,16 +182,18 @@ class SteadyTone:
 
 
 #: Below this frequency (Hz) tones are read from the fine low-rate spectrum when one is given.
-LOW_SPAN_TOP_HZ = 400.0
+LOW_SPAN_TOP_HZ = 300.0
 
 
-def steady_tones(psd, freqs_hz, *, low_psd=None, low_freqs_hz=None, max_tones: int = 8) -> tuple[SteadyTone, ...]:
+def steady_tones(psd, freqs_hz, *, low_psd=None, low_freqs_hz=None, max_tones: int = 8,
+                 min_level_dbfs: float = -math.inf) -> tuple[SteadyTone, ...]:
     """Steady tones of a recording: lines in the pause (or steady-signal) spectrum.
 
     Below :data:`LOW_SPAN_TOP_HZ` the lines are taken from ``low_psd`` (a long-window spectrum
     of the quiet stretches with a fraction of a hertz resolution, enough to tell CTCSS tones
     apart) when given; above it, and without it, from ``psd``.  Each line is matched against
-    the CTCSS list.
+    the CTCSS list.  Lines weaker than ``min_level_dbfs`` are left out (the caller sets it
+    some tens of dB below the recording's level: converter and filter residues are not tones).
     """
     out: list[Tone] = []
     if low_psd is not None and low_freqs_hz is not None and len(low_freqs_hz) > 16:
@@ -197,6 +202,7 @@ def steady_tones(psd, freqs_hz, *, low_psd=None, low_freqs_hz=None, max_tones: i
         out += list(find_tones(psd, freqs_hz, low_hz=top, max_tones=max_tones))
     else:
         out += list(find_tones(psd, freqs_hz, max_tones=max_tones))
+    out = [t for t in out if t.level_dbfs >= min_level_dbfs]
     out.sort(key=lambda t: -t.level_dbfs)
     result = []
     for t in out[:max_tones]:
