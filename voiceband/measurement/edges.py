@@ -56,11 +56,11 @@ __all__ = [
 #: Edge criterion: dB below the passband level.
 DROP_DB = 10.0
 #: Allowed departure of a talker's long-term spectrum from the fitted reference at an edge (dB).
-TALKER_SPREAD_DB = 6.0
+TALKER_SPREAD_DB = 8.0
 #: Knee steeper than this (dB/octave) marks a channel edge rather than a talker's roll-off.
 STEEP_DB_PER_OCTAVE = 18.0
 #: A range wider than this (octaves) marks the edge uncertain.
-CERTAIN_RANGE_OCTAVES = 0.4
+CERTAIN_RANGE_OCTAVES = 0.5
 #: Power-subtracted speech is floored this far below the noise PSD (dB).
 FLOOR_DB_RE_NOISE = -20.0
 #: Grid density (points per octave) and smoothing width (octaves).
@@ -249,6 +249,9 @@ def fine_edges(
             return Edge(None, None, None, False, "span")
         if outer is None:
             outer = nyq if step > 0 else float(grid[0])
+        # Smoothing spreads passband power outwards over its half-width, which moves a
+        # crossing outwards: the range reaches that much further in.
+        inner = inner * 2.0 ** (-step * _half_width_octaves(inner, f0_median_hz))
         a, b = sorted((inner, outer))
         sel = (grid >= a) & (grid <= b)
         knee = None
@@ -280,13 +283,19 @@ RESPONSE_SMOOTH_OCTAVES = 1.0 / 12.0
 STAY_OCTAVES = 0.25
 
 
+def _half_width_octaves(f_hz, f0_hz: Optional[float]):
+    """Half-width (octaves) of the response smoothing window at ``f_hz``."""
+    hw = RESPONSE_SMOOTH_OCTAVES / 2
+    if f0_hz:
+        hw = np.maximum(hw, np.log2(1.0 + F0_WINDOW * 0.5 * f0_hz / np.asarray(f_hz, dtype=float)))
+    return hw
+
+
 def _smooth_db(r: np.ndarray, grid: np.ndarray, f0_hz: Optional[float]) -> np.ndarray:
     p = 10.0 ** (r / 10.0)
     c = np.concatenate(([0.0], np.cumsum(p)))
     logf = np.log2(grid)
-    half_oct = np.full(grid.size, RESPONSE_SMOOTH_OCTAVES / 2)
-    if f0_hz:
-        half_oct = np.maximum(half_oct, np.log2(1.0 + F0_WINDOW * 0.5 * f0_hz / grid))
+    half_oct = np.broadcast_to(_half_width_octaves(grid, f0_hz), grid.shape)
     lo = np.searchsorted(logf, logf - half_oct, side="left")
     hi = np.searchsorted(logf, logf + half_oct, side="right")
     mean = (c[hi] - c[lo]) / np.maximum(hi - lo, 1)
