@@ -43,19 +43,30 @@ def analysis_rows(r: AnalysisResult) -> list[tuple[str, str, str, str]]:
         cnote = "clipped runs found"
     add("Clipping", "Clip events", str(cl.event_count), cnote)
     add("", "Clipped samples", f"{cl.clipped_samples} ({100 * cl.clipped_fraction:.3f} %)", "samples on the clip level")
-    add("Noise", "Noise floor", _f(nz.floor_dbfs, "dBFS"), "RMS in the pauses between words")
-    add("", "SNR", _f(nz.snr_db, "dB"), "active speech level − noise floor")
+    add("Noise", "Noise floor", _f(nz.floor_dbfs, "dBFS"), "noise level in the pauses between words")
+    add("", "SNR", _f(nz.snr_db, "dB"), "active level of the speech alone − noise floor (power subtraction)")
     if nz.hum is None:
         add("", "Mains hum", "none", "no 50/60 Hz comb above the noise")
     else:
         add("", f"Mains hum ({nz.hum.fundamental_hz:.1f} Hz)", _f(nz.hum.level_db_re_speech, "dB"),
             "hum level re active speech level")
+    for t in nz.tones:
+        what = f"CTCSS {t.ctcss_hz:.1f} Hz" if t.kind == "ctcss" and t.ctcss_hz is not None else f"tone {t.frequency_hz:.1f} Hz"
+        add("", f"Steady {what}", _f(t.level_db_re_speech, "dB"), "level re speech; not mains hum")
     edges = sp.edges_hz
     low = _f(edges.low, "", 0) if edges.low is not None else (
         f"<{edges.lowest_band_hz:g}" if edges.lowest_band_hz and edges.high is not None else "—")
     high = _f(edges.high, "", 0) if edges.high is not None else (
         f">{edges.highest_band_hz:g}" if edges.highest_band_hz and edges.low is not None else "—")
-    add("Spectrum", "Passband (−10 dB)", f"{low} – {high} Hz", "chain response estimated from the speech")
+    def _range(rng, unc):
+        if rng is None:
+            return ""
+        return f"{'uncertain, ' if unc else ''}{rng[0]:.0f}–{rng[1]:.0f} Hz"
+
+    ranges = "; ".join(v for v in (_range(edges.low_range, edges.low_uncertain) and f"low {_range(edges.low_range, edges.low_uncertain)}",
+                                   _range(edges.high_range, edges.high_uncertain) and f"high {_range(edges.high_range, edges.high_uncertain)}") if v)
+    add("Spectrum", "Passband (−10 dB)", f"{low} – {high} Hz",
+        "chain response estimated from the speech" + (f" ({ranges})" if ranges else ""))
     ob = sp.occupied_bandwidth
     add("", f"Occupied bandwidth ({100 * ob.fraction:g} %)", _f(ob.width_hz, "Hz", 0),
         f"{_f(ob.low_hz, '', 0)} – {_f(ob.high_hz, 'Hz', 0)} (ITU-R SM.328)")
