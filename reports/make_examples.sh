@@ -14,3 +14,8 @@ python reports/simulate_chain.py "$out/sweep_48k.wav" "$out/sweep_through_bandpa
 voiceband response "$out/sweep_48k.wav" "$out/sweep_through_bandpass.wav" --out "$out" \
   --json "$out/response_bandpass.json" --force > "$out/response_bandpass.txt"
 rm -f "$out/sweep_48k.wav" "$out/sweep_through_bandpass.wav"   # large, and regenerated exactly by this script
+# 3. An on-air test report (index.html with verdicts for SSB voice, what to change, figures; analysis.json,
+#    summary.md, the figures as PNG) for the hot-microphone recording.
+voiceband report corpus_synthetic/speech_high_clipped.wav --profile ssb-voice --out "$out/report_speech_high_clipped" \
+  --title "Example: a hot microphone on SSB (synthetic recording)" \
+  --notes "High voice, raised effort, clipped at half of full scale before the last gain stage." --force > /dev/null

@@ -19,6 +19,9 @@ Synthesis and test signals
     :func:`reference_tone`, :func:`stepped_tones`, noise generators.
 Chain response
     :func:`measure_response` -> ``ResponseResult``.
+On-air test report
+    :func:`load_profile`, :func:`profile_verdicts`, :func:`search_cutoffs`, :func:`recommendations`,
+    :func:`build_report`, :func:`write_report`, :func:`analyze_file_detailed`.
 Design bench
     :func:`read_chain` -> ``Chain``; :func:`evaluate_chain`, :func:`compare_chains`, :func:`sweep_cutoffs`.
 """
@@ -45,6 +48,13 @@ from .results import AnalysisResult, Finding
 _LAZY = {
     "analyze_file": ("voiceband.analysis", "analyze_file"),
     "analyze_signal": ("voiceband.analysis", "analyze_signal"),
+    "analyze_file_detailed": ("voiceband.analysis", "analyze_file_detailed"),
+    "load_profile": ("voiceband.profiles", "load_profile"),
+    "profile_verdicts": ("voiceband.profiles.verdicts", "verdicts"),
+    "search_cutoffs": ("voiceband.recommend", "search_cutoffs"),
+    "recommendations": ("voiceband.recommend", "recommendations"),
+    "build_report": ("voiceband.report.onair", "build_report"),
+    "write_report": ("voiceband.report.onair", "write_report"),
     "read_audio": ("voiceband.audio", "read"),
     "audio_info": ("voiceband.audio", "info"),
     "write_audio": ("voiceband.audio", "write"),

@@ -47,6 +47,8 @@ __all__ = [
     "analyze_signal",
     "measure_recording",
     "Measurements",
+    "analyze_file_detailed",
+    "AnalysisDetails",
     "RecordingAccumulator",
     "MIN_DURATION_S",
     "MAX_LISTED_CLIP_EVENTS",
@@ -65,6 +67,7 @@ OBW_SPAN_LOW_HZ = 20.0
 if TYPE_CHECKING:  # typing only: the accumulators are imported when a pipeline is made
     from .measurement.activity import ActivityResult
     from .measurement.hum import HumResult
+    from .measurement.timeline import TimelineResult
     from .measurement.bandwidth import OccupiedBandwidth, PassbandEdges
     from .measurement.clipping import ClippingResult
     from .measurement.levels import LevelsResult
@@ -152,7 +155,7 @@ class RecordingAccumulator:
     -6.02
     """
 
-    def __init__(self, sample_rate_hz: float):
+    def __init__(self, sample_rate_hz: float, *, timeline: bool = False):
         from .measurement.activity import ActivityAccumulator
         from .measurement.hum import HumAccumulator
         from .measurement.clipping import ClippingAccumulator
@@ -170,6 +173,11 @@ class RecordingAccumulator:
         self.hum = HumAccumulator(fs)
         self.voice = VoiceReservoir(fs)
         self.speech_noise = SpeechNoiseAccumulator((self.activity.nfft // 2) / fs)
+        self.timeline = None
+        if timeline:  # only for the report's figures: level over time, coarse spectrogram, histogram
+            from .measurement.timeline import TimelineAccumulator
+
+            self.timeline = TimelineAccumulator(int(fs))
         self.samples = 0
 
     def update(self, block: np.ndarray) -> None:
@@ -181,6 +189,8 @@ class RecordingAccumulator:
         self.speech_noise.update(ms)
         self.hum.update(x32)
         self.voice.update(x32)
+        if self.timeline is not None:
+            self.timeline.update(block)
         self.samples += len(block)
 
     def result(self) -> Measurements:
@@ -297,13 +307,46 @@ def analyze_file(
     SignalValueError
         The samples contain NaN/Inf, or the recording is shorter than :data:`MIN_DURATION_S`.
     """
+    return _combine(*_read_file(path, channel, progress, block_frames, timeline=False))
+
+
+@dataclass(frozen=True)
+class AnalysisDetails:
+    """What the report's figures need beyond :class:`AnalysisResult`, from the same single pass.
+
+    Attributes
+    ----------
+    measurements : Measurements
+        The measurement results (fine speech and pause PSDs, activity thresholds, hum lines).
+    timeline : voiceband.measurement.timeline.TimelineResult
+        Level over time, coarse spectrogram and sample-value histogram.
+    """
+
+    measurements: Measurements
+    timeline: "TimelineResult"
+
+
+def analyze_file_detailed(
+    path: Union[str, os.PathLike],
+    *,
+    channel: audio.Channel = 0,
+    progress: Optional[ProgressFn] = None,
+    block_frames: int = audio.DEFAULT_BLOCK_FRAMES,
+) -> tuple[AnalysisResult, AnalysisDetails]:
+    """:func:`analyze_file` plus the statistics the report's figures draw, in the same single pass."""
+    info, pipe = _read_file(path, channel, progress, block_frames, timeline=True)
+    m = pipe.result()
+    return _combine(info, pipe, m), AnalysisDetails(m, pipe.timeline.result())
+
+
+def _read_file(path, channel, progress, block_frames, *, timeline: bool) -> tuple[InputInfo, RecordingAccumulator]:
     ai = audio.info(path)
     if ai.frames < int(MIN_DURATION_S * ai.sample_rate_hz):
         raise SignalValueError(
             f"'{ai.path}' is too short to analyse ({ai.frames} samples, {ai.duration_s:.3f} s); "
             f"voiceband needs at least {MIN_DURATION_S} s."
         )
-    pipe = RecordingAccumulator(ai.sample_rate_hz)
+    pipe = RecordingAccumulator(ai.sample_rate_hz, timeline=timeline)
     for block in audio.blocks(ai.path, channel=channel, block_frames=block_frames, audio_info=ai):
         pipe.update(block)
         if progress is not None:
@@ -320,7 +363,7 @@ def analyze_file(
         format=ai.format,
         subtype=ai.subtype,
     )
-    return _combine(info, pipe)
+    return info, pipe
 
 
 def analyze_signal(samples: np.ndarray, sample_rate_hz: int, *, name: str = "<signal>") -> AnalysisResult:
@@ -341,11 +384,12 @@ def analyze_signal(samples: np.ndarray, sample_rate_hz: int, *, name: str = "<si
     return _combine(info, pipe)
 
 
-def _combine(info: InputInfo, pipe: RecordingAccumulator) -> AnalysisResult:
+def _combine(info: InputInfo, pipe: RecordingAccumulator, m: Optional[Measurements] = None) -> AnalysisResult:
     from . import __version__
     from .findings import findings_for
 
-    m = pipe.result()
+    if m is None:
+        m = pipe.result()
     levels = LevelsSection.of(m.levels)
     silent = levels.peak_dbfs is None
     noise = NoiseSection.of(m.activity, m.hum if m.mains_comb else None, active_level_dbfs=levels.active_level_dbfs,

@@ -121,6 +121,24 @@ def info(path: Union[str, os.PathLike]) -> AudioInfo:
     )
 
 
+#: Text tags libsndfile reads from a file's metadata (WAV INFO chunks, FLAC/OGG comments).
+TAG_NAMES = ("title", "artist", "album", "date", "comment", "software", "copyright", "license", "genre", "tracknumber")
+
+
+def tags(path: Union[str, os.PathLike]) -> dict[str, str]:
+    """The file's text metadata tags that are present, e.g. ``{"title": "...", "comment": "..."}``.
+
+    Unreadable metadata gives an empty dict (tags are informative only); call :func:`info` first to
+    validate the file itself.
+    """
+    try:
+        with _sf().SoundFile(str(path)) as f:
+            got = {name: getattr(f, name, "") for name in TAG_NAMES}
+    except Exception:  # metadata is optional: never fail a report over it
+        return {}
+    return {k: str(v) for k, v in got.items() if v}
+
+
 def _short(exc: Exception) -> str:
     text = str(exc).strip().splitlines()[-1] if str(exc).strip() else type(exc).__name__
     text = text.replace("Error opening", "error opening")

@@ -24,6 +24,8 @@ app = typer.Typer(
 # (command name, module, function)
 _COMMANDS = [
     ("analyze", "voiceband.cli.analyze", "analyze"),
+    ("report", "voiceband.cli.report", "report"),
+    ("demo", "voiceband.cli.demo", "demo"),
     ("response", "voiceband.cli.response", "response"),
     ("synth", "voiceband.cli.synth", "synth"),
     ("testsignal", "voiceband.cli.testsignal", "testsignal"),
