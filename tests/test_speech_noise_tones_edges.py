@@ -149,15 +149,16 @@ def test_white_noise_has_no_tones(rng):
     assert find_tones(p, f) == ()
 
 
-@pytest.mark.parametrize("harmonics, f0, tones, expected", [
-    ((50.0, 100.0, 150.0), 50.0, (), True),            # a mains comb
-    ((50.0,), 50.0, (50.0,), False),                   # one line at mains frequency: a tone
-    ((100.0, 200.0), 50.0, (100.0,), False),           # a 100.0 Hz CTCSS tone and its 2nd harmonic
-    ((200.0, 400.0), 50.0, (400.0, 1800.0), False),    # a 400 Hz test tone plus one stray line
-    ((50.0, 100.0, 150.0), 50.0, (100.0,), True),      # mains comb with a 100 Hz CTCSS tone on it
+@pytest.mark.parametrize("harmonics, f0, tones, levels, expected", [
+    ((50.0, 100.0, 150.0), 50.0, (), None, True),                            # a mains comb
+    ((50.0, 100.0, 150.0), 50.0, (50.0, 100.0, 150.0), (-50, -56, -60), True),  # strong hum: its lines are tones too
+    ((50.0,), 50.0, (50.0,), None, False),                                   # one line at mains frequency: a tone
+    ((100.0, 200.0), 50.0, (100.0,), (-40, -70), False),                     # a 100.0 Hz CTCSS tone and its 2nd harmonic
+    ((200.0, 400.0), 50.0, (400.0, 1800.0), (-104, -23), False),             # a 400 Hz test tone plus a residue
+    ((50.0, 100.0, 150.0), 50.0, (100.0,), None, True),                      # mains comb with a 100 Hz CTCSS tone on it
 ])
-def test_is_mains_comb(harmonics, f0, tones, expected):
-    assert is_mains_comb(harmonics, f0, tones) is expected
+def test_is_mains_comb(harmonics, f0, tones, levels, expected):
+    assert is_mains_comb(harmonics, f0, tones, levels) is expected
 
 
 # --------------------------------------------------------------------------------------

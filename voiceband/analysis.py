@@ -245,7 +245,10 @@ class RecordingAccumulator:
                     spectrum = spectrum.within_passband(lo_hz, hi_hz)
             sii_speech, sii_noise, sii_why = self._sii_inputs(spectrum, sn, act, noise_psd)
         tone_hz = [t.frequency_hz for t in tones]
-        comb = hum is not None and is_mains_comb(hum.harmonics_hz, hum.fundamental_hz, tone_hz)
+        comb = hum is not None and is_mains_comb(hum.harmonics_hz, hum.fundamental_hz, tone_hz,
+                                                 hum.harmonic_levels_dbfs)
+        if comb:  # the comb's own lines are hum, not separate tones
+            tones = tuple(t for t in tones if not any(abs(t.frequency_hz - h) < 1.0 for h in hum.harmonics_hz))
         return Measurements(lv, self.clipping.result(), act, spectrum, obw, edges, hum, self.hum.window_count,
                             voice, sn, fine, tones, comb, sii_speech, sii_noise, sii_why)
 

@@ -138,18 +138,24 @@ def ctcss_tone(frequency_hz: float) -> Optional[float]:
     return float(tones[i]) if abs(tones[i] - frequency_hz) <= CTCSS_TOLERANCE * tones[i] else None
 
 
+#: Harmonics weaker than this below the comb's strongest line do not count towards a comb (dB).
+COMB_SPAN_DB = 40.0
+
+
 def is_mains_comb(harmonics_hz: Sequence[float], fundamental_hz: float,
-                  tones_hz: Sequence[float] = ()) -> bool:
+                  tones_hz: Sequence[float] = (), levels_dbfs: Optional[Sequence[float]] = None) -> bool:
     """Whether detected mains harmonics form a comb that only mains hum explains.
 
-    At least two harmonics must be present that are not themselves steady tones found on
-    their own (a 400 Hz test tone is the 8th harmonic of 50 Hz), and they must not all be
-    multiples of one such tone (a CTCSS tone of 100.0 or 150.0 Hz and its distortion
-    products sit on multiples of 50 Hz).  A lone line at 50 or 60 Hz is a steady tone, not
-    a measured comb.
+    At least two harmonics within :data:`COMB_SPAN_DB` of the strongest must be present (a
+    lone line at 50 or 60 Hz, or a 400 Hz test tone with a converter residue at 200 Hz, is a
+    steady tone, not a measured comb), and they must not all be multiples of one steady
+    tone that is not the mains fundamental (a CTCSS tone of 100.0 or 150.0 Hz and its
+    distortion products sit on multiples of 50 Hz).
     """
-    h = [float(v) for v in harmonics_hz
-         if not any(abs(float(v) - t) < 1.0 and abs(t - fundamental_hz) >= 1.0 for t in tones_hz)]
+    h = [float(v) for v in harmonics_hz]
+    if levels_dbfs is not None and len(levels_dbfs) == len(h) and h:
+        top = max(float(v) for v in levels_dbfs)
+        h = [v for v, lv in zip(h, levels_dbfs) if float(lv) >= top - COMB_SPAN_DB]
     if len(h) < 2:
         return False
     for t in tones_hz:
