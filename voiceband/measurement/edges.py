@@ -439,6 +439,12 @@ def _limit(e: Edge, step: int, grid, hidden, below_f0, nyq) -> Edge:
             rng_ = (a, nyq) if step > 0 else (float(grid[0]), b)
         if b > nyq:
             rng_ = (rng_[0], nyq)
+    hz = e.hz
+    if hz is None and limited == "noise" and rng_ is not None:
+        # The speech sinks into the noise before falling 10 dB: the best that can be said is
+        # where it sinks (the range's inner end), reported as uncertain.
+        hz = rng_[0] if step > 0 else rng_[1]
+    e = Edge(hz, e.range_hz, e.knee_db_per_octave, e.certain, e.limited_by)
     width = math.log2(rng_[1] / rng_[0]) if rng_ is not None and rng_[0] > 0 else math.inf
     knee = e.knee_db_per_octave
     certain = (e.hz is not None and limited is None and width <= CERTAIN_RANGE_OCTAVES
