@@ -56,6 +56,24 @@ def test_blocks_stream_whole_file(write_wav, rng):
     assert np.array_equal(np.concatenate(parts), x)
 
 
+@pytest.mark.parametrize("fmt,ext,subtype", [("WAV", "wav", "PCM_16"), ("WAV", "wav", "PCM_24"), ("WAV", "wav", "PCM_32"),
+                                             ("FLAC", "flac", "PCM_16"), ("FLAC", "flac", "PCM_24"),
+                                             ("WAV", "wav", "PCM_U8"), ("WAV", "wav", "FLOAT")])
+@pytest.mark.parametrize("channel", [0, 2, "mix"])
+def test_blocks_equal_libsndfile_float64(tmp_path, rng, fmt, ext, subtype, channel):
+    # Integer PCM is read as integers and scaled in numpy: the samples must be exactly those of
+    # libsndfile's own float64 conversion (python-soundfile, the reference library).
+    x = (0.4 * rng.standard_normal((5003, 3))).clip(-1.0, 0.999)
+    x[:3] = [[-1.0, 0.999, 0.0], [2.0**-15, -2.0**-15, 2.0**-23], [0.5, -0.5, 0.25]]
+    p = tmp_path / f"x.{ext}"
+    sf.write(str(p), x, 16000, format=fmt, subtype=subtype)
+    ref = sf.read(str(p), dtype="float64", always_2d=True)[0]
+    ref = ref.mean(axis=1) if channel == "mix" else ref[:, channel]
+    got = np.concatenate(list(audio.blocks(p, channel=channel, block_frames=1000)))
+    assert got.dtype == np.float64
+    assert np.array_equal(got, ref)
+
+
 @pytest.mark.parametrize("fmt,ext", [("FLAC", "flac"), ("OGG", "ogg"), ("W64", "w64"), ("RF64", "wav")])
 def test_other_containers(tmp_path, fmt, ext):
     x = 0.25 * np.sin(2 * np.pi * 440 * np.arange(8000) / 16000)

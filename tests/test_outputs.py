@@ -109,7 +109,7 @@ _SLOW_WRITER = textwrap.dedent("""
     def work():
         with atomic_output(Path(sys.argv[1])) as tmp:
             tmp.write_text("partial")
-            time.sleep(60)
+            time.sleep(300)
 
     try:
         work()
@@ -127,7 +127,7 @@ def _start_writer(tmp_path: Path) -> subprocess.Popen:
     out.mkdir()
     proc = subprocess.Popen([sys.executable, str(script), str(out / "result.txt")],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-    deadline = time.time() + 60
+    deadline = time.time() + 180
     while not _parts(out):
         assert time.time() < deadline, "the writer never opened its temporary file"
         assert proc.poll() is None, proc.communicate()
@@ -139,7 +139,7 @@ def _start_writer(tmp_path: Path) -> subprocess.Popen:
 def test_catchable_signal_leaves_nothing_behind(tmp_path, sig):
     proc = _start_writer(tmp_path)
     proc.send_signal(sig)
-    _, err = proc.communicate(timeout=30)
+    _, err = proc.communicate(timeout=120)
     assert proc.returncode == 128 + sig, err
     assert "stopped by signal" in err
     assert list((tmp_path / "out").iterdir()) == []

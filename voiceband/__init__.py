@@ -91,6 +91,8 @@ _LAZY = {
     "mains_hum": ("voiceband.synth", "mains_hum"),
     "static_crashes": ("voiceband.synth", "static_crashes"),
     "measure_response": ("voiceband.response", "measure_response"),
+    "run_batch": ("voiceband.batch", "run_batch"),
+    "BatchSettings": ("voiceband.batch", "BatchSettings"),
     "read_chain": ("voiceband.chain", "read_chain"),
     "evaluate_chain": ("voiceband.design.evaluate", "evaluate_chain"),
     "compare_chains": ("voiceband.design.compare", "compare_chains"),

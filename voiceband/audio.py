@@ -7,6 +7,7 @@ files are streamed in blocks so memory does not grow with file length.
 
 from __future__ import annotations
 
+import contextlib
 import os
 from dataclasses import dataclass
 from pathlib import Path
@@ -33,8 +34,9 @@ __all__ = [
 #: Lowest and highest sample rates voiceband accepts (Hz): the one range of :mod:`voiceband.validate`.
 MIN_SAMPLE_RATE_HZ = validate.MIN_SAMPLE_RATE_HZ
 MAX_SAMPLE_RATE_HZ = validate.MAX_SAMPLE_RATE_HZ
-#: Default streaming block length in frames (about 5.5 s at 48 kHz).
-DEFAULT_BLOCK_FRAMES = 1 << 18
+#: Default streaming block length in frames (about 22 s at 48 kHz): long enough that the per-block
+#: work of the accumulators is small against the per-sample work, short enough for flat memory.
+DEFAULT_BLOCK_FRAMES = 1 << 20
 
 Channel = Union[int, str]  # channel index, or "mix" for the mean of all channels
 
@@ -92,13 +94,8 @@ def info(path: Union[str, os.PathLike]) -> AudioInfo:
         raise AudioInputError(f"'{p}' cannot be read (permission denied).")
     if p.stat().st_size == 0:
         raise AudioFormatError(f"'{p}' is empty (0 bytes).")
-    sf = _sf()
-    try:
-        i = sf.info(str(p))
-    except Exception as exc:  # libsndfile raises a generic error for every failure
-        raise AudioFormatError(
-            f"'{p}' is not an audio file voiceband can read ({_short(exc)})."
-        ) from None
+    with _open(p) as f:
+        i = _Header(int(f.samplerate), int(f.channels), int(f.frames), str(f.format), str(f.subtype))
     if i.frames <= 0:
         raise AudioFormatError(f"'{p}' contains no audio samples.")
     try:
@@ -121,6 +118,66 @@ def info(path: Union[str, os.PathLike]) -> AudioInfo:
     )
 
 
+@dataclass(frozen=True)
+class _Header:
+    samplerate: int
+    channels: int
+    frames: int
+    format: str
+    subtype: str
+
+
+@contextlib.contextmanager
+def _native_stderr_silenced() -> Iterator[None]:
+    """Send file descriptor 2 to the null device while the decoder runs.
+
+    libsndfile's MP3 decoder (libmpg123) prints its own notes straight to fd 2, around
+    Python's ``sys.stderr``; voiceband reports problems in its own sentence instead.
+    """
+    try:
+        saved = os.dup(2)
+    except OSError:  # no fd 2 at all: nothing to silence
+        yield
+        return
+    null = os.open(os.devnull, os.O_WRONLY)
+    try:
+        os.dup2(null, 2)
+        yield
+    finally:
+        os.dup2(saved, 2)
+        os.close(saved)
+        os.close(null)
+
+
+@contextlib.contextmanager
+def _open(p: Path) -> Iterator["object"]:
+    """An open ``soundfile.SoundFile`` for ``p``; a repaired view (see :mod:`voiceband.containers`)
+    when libsndfile refuses a WAV or AIFF file only for its extra chunks.
+
+    Raises AudioFormatError with a sentence of ours (never the decoder's wording).
+    """
+    from .containers import describe_unreadable, repaired_view
+
+    sf = _sf()
+    f = None
+    with _native_stderr_silenced():
+        try:
+            f = sf.SoundFile(str(p))
+        except Exception:  # libsndfile raises a generic error for every failure
+            view = repaired_view(p)
+            if view is not None:
+                try:
+                    f = sf.SoundFile(view)
+                except Exception:
+                    view.close()
+    if f is None:
+        raise AudioFormatError(describe_unreadable(p)) from None
+    try:
+        yield f
+    finally:
+        f.close()
+
+
 #: Text tags libsndfile reads from a file's metadata (WAV INFO chunks, FLAC/OGG comments).
 TAG_NAMES = ("title", "artist", "album", "date", "comment", "software", "copyright", "license", "genre", "tracknumber")
 
@@ -132,17 +189,11 @@ def tags(path: Union[str, os.PathLike]) -> dict[str, str]:
     validate the file itself.
     """
     try:
-        with _sf().SoundFile(str(path)) as f:
+        with _native_stderr_silenced(), _sf().SoundFile(str(path)) as f:
             got = {name: getattr(f, name, "") for name in TAG_NAMES}
     except Exception:  # metadata is optional: never fail a report over it
         return {}
     return {k: str(v) for k, v in got.items() if v}
-
-
-def _short(exc: Exception) -> str:
-    text = str(exc).strip().splitlines()[-1] if str(exc).strip() else type(exc).__name__
-    text = text.replace("Error opening", "error opening")
-    return text[:160].rstrip(".")
 
 
 def _check_channel(channel: Channel, channels: int) -> Channel:
@@ -166,6 +217,14 @@ def _select(data: np.ndarray, channel: Channel) -> np.ndarray:
     if channel == "mix":
         return data.mean(axis=1)
     return np.ascontiguousarray(data[:, channel])
+
+
+#: Integer PCM encodings read as integers and scaled here: libsndfile's own conversion to float64
+#: divides by the same power of two (0x8000 for 16-bit; 0x80000000 for 24- and 32-bit, which it
+#: reads left-justified in 32 bits), so the samples are bit for bit the same (a test checks), and
+#: reading 2 or 4 bytes per sample and scaling in numpy costs a fraction of the library's
+#: float conversion.  Other encodings (float, 8-bit, compressed) are converted by libsndfile.
+_INTEGER_READS = {"PCM_16": ("int16", 2.0 ** -15), "PCM_24": ("int32", 2.0 ** -31), "PCM_32": ("int32", 2.0 ** -31)}
 
 
 def blocks(
@@ -198,15 +257,27 @@ def blocks(
     ai = audio_info or info(path)
     ch = _check_channel(channel, ai.channels)
     sf = _sf()
-    try:
-        with sf.SoundFile(ai.path) as f:
-            while True:
-                data = f.read(block_frames, dtype="float64", always_2d=True)
-                if data.shape[0] == 0:
-                    break
+    with _open(Path(ai.path)) as f:
+        dtype, scale = _INTEGER_READS.get(str(f.subtype), ("float64", None))
+        # integer PCM: one buffer reused for every read (each yielded block is a new array)
+        raw = None if scale is None else np.empty((min(block_frames, max(f.frames, 1)), f.channels), dtype=dtype)
+        while True:
+            try:
+                with _native_stderr_silenced():
+                    data = f.read(block_frames, dtype=dtype, always_2d=True, out=raw)
+            except (RuntimeError, sf.LibsndfileError):  # pragma: no cover - depends on libsndfile
+                raise AudioFormatError(
+                    f"'{ai.path}' could not be decoded to the end: it is damaged or truncated after "
+                    f"{f.tell() / ai.sample_rate_hz:.3f} s."
+                ) from None
+            if data.shape[0] == 0:
+                break
+            if scale is None:
                 yield _select(data, ch)
-    except (RuntimeError, sf.LibsndfileError) as exc:  # pragma: no cover - depends on libsndfile
-        raise AudioFormatError(f"'{ai.path}' could not be decoded to the end ({_short(exc)}).") from None
+            elif ch == "mix":
+                yield np.multiply(data, scale).mean(axis=1)
+            else:
+                yield np.multiply(data[:, ch], scale)
 
 
 def read(

@@ -24,6 +24,7 @@ app = typer.Typer(
 # (command name, module, function)
 _COMMANDS = [
     ("analyze", "voiceband.cli.analyze", "analyze"),
+    ("batch", "voiceband.cli.batch", "batch"),
     ("report", "voiceband.cli.report", "report"),
     ("demo", "voiceband.cli.demo", "demo"),
     ("response", "voiceband.cli.response", "response"),

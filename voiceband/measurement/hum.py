@@ -46,6 +46,7 @@ __all__ = [
     "HUM_TOP_HZ",
     "LINE_OVER_MEDIAN_DB",
     "MEDIAN_HALF_WIDTH_HZ",
+    "block_as_stored",
     "harmonic_numbers",
     "stands_out",
     "HumResult",
@@ -66,6 +67,19 @@ HUM_TOP_HZ = 2000.0
 #: A line stands at least this far above the median spectrum within ±MEDIAN_HALF_WIDTH_HZ (dB).
 LINE_OVER_MEDIAN_DB = 12.0
 MEDIAN_HALF_WIDTH_HZ = 20.0
+
+
+def block_as_stored(block) -> np.ndarray:
+    """A 1-D block for accumulators that keep float32 samples: float32 as it is, else float64.
+
+    The hum detector and the F0 reservoir store and filter float32; the orchestrator hands them
+    its float32 copy of each block, which needs no round trip through float64 (the float32 values
+    are the same either way).  Anything else goes through :func:`voiceband.validate.block`.
+    """
+    x = np.asarray(block)
+    if x.ndim == 1 and x.dtype == np.float32:
+        return x
+    return validate.block(block)
 
 
 def harmonic_numbers(mains_hz: float, top_hz: float) -> list[int]:
@@ -390,7 +404,7 @@ class HumAccumulator:
 
     def update(self, block) -> None:
         """Add the next block of samples (1-D, any length >= 1)."""
-        x = validate.block(block)
+        x = block_as_stored(block)
         start = self._received
         end = start + x.size
         self._received = end

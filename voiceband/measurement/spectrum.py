@@ -300,7 +300,9 @@ class LongTermSpectrumAccumulator:
         ends = np.r_[starts[1:], b.size]
         uniform = bool(np.all(w == w[0]))
         for s, e in zip(starts.tolist(), ends.tolist()):
-            row = pw[s:e].sum(axis=0) * float(w[0]) if uniform else w[s:e].astype(np.float32) @ pw[s:e]
+            # summed in float64, so the result does not depend on how the frames were cut into blocks
+            row = (pw[s:e].sum(axis=0, dtype=np.float64) * float(w[0]) if uniform
+                   else w[s:e].astype(np.float64) @ pw[s:e].astype(np.float64))
             self._hist[b[s]] += row
             self._weight[b[s]] += float(w[s:e].sum())
             self._transformed[b[s]] += e - s

@@ -22,7 +22,7 @@ import numpy as np
 
 from .. import validate
 from ..errors import MeasurementError
-from .hum import steady_mains_lines, subtract_line
+from .hum import block_as_stored, steady_mains_lines, subtract_line
 
 __all__ = [
     "VoiceResult",
@@ -465,7 +465,7 @@ class VoiceReservoir:
 
     def update(self, block) -> None:
         """Add the next block of samples (1-D, any length >= 1)."""
-        x = validate.block(block)
+        x = block_as_stored(block)
         L = self.chunk_length
         c = self._carry.size
         if c + x.size < L:

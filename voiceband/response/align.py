@@ -101,10 +101,10 @@ def resample_to_rate(x: np.ndarray, from_rate_hz: int, to_rate_hz: int) -> np.nd
     window keeps images and aliases about 100 dB down, below what a sweep measurement
     could mistake for harmonic distortion.
     """
-    from scipy.signal import resample_poly
-
     if int(from_rate_hz) == int(to_rate_hz):
         return np.asarray(x, dtype=np.float64)
+    from scipy.signal import resample_poly  # only here: importing scipy.signal costs about a second
+
     fr = Fraction(int(to_rate_hz), int(from_rate_hz))
     return resample_poly(np.asarray(x, dtype=np.float64), fr.numerator, fr.denominator, window=_RESAMPLE_WINDOW)
 
@@ -115,11 +115,11 @@ def correct_clock(x: np.ndarray, clock_ratio: float) -> np.ndarray:
     Output sample k is the input at sample k·r; the ratio is approximated by a fraction
     with a denominator of at most 4000 (error below 1e-7 for |r − 1| < 1 %).
     """
-    from scipy.signal import resample_poly
-
     r = float(clock_ratio)
     if abs(r - 1.0) < 1e-7:
         return np.asarray(x, dtype=np.float64)
+    from scipy.signal import resample_poly  # only here: importing scipy.signal costs about a second
+
     fr = Fraction(1.0 / r).limit_denominator(4000)
     return resample_poly(np.asarray(x, dtype=np.float64), fr.numerator, fr.denominator, window=_RESAMPLE_WINDOW)
 

@@ -377,11 +377,11 @@ def deconvolved_noise_power(
     frequency the noise fills len(y) lags.  A window w collects Σw² times that.
     Divide a response's |H(f)|² by this to get its signal-to-noise ratio.
     """
-    from scipy.signal import welch
+    from .signaltools import welch_psd
 
     fs = deconvolution.sample_rate_hz
     nper = int(min(noise.size, 2 ** np.ceil(np.log2(0.05 * fs))))
-    f_w, p1 = welch(np.asarray(noise, dtype=np.float64), fs=fs, nperseg=nper)
+    f_w, p1 = welch_psd(np.asarray(noise, dtype=np.float64), fs, segment_length=nper)
     s_two_sided = p1 * fs / 2.0  # one-sided density (units²/Hz) → two-sided per-sample
     f = np.asarray(frequencies_hz, dtype=np.float64)
     s = np.interp(f, f_w, s_two_sided)

@@ -102,7 +102,7 @@ def passband_ripple_db(frequencies_hz: np.ndarray, magnitude_db: np.ndarray, edg
     measured band where an edge is None).  Returns 0.0 when the passband holds fewer
     than two peaks of at least 0.1 dB prominence, None with fewer than three points.
     """
-    from scipy.signal import find_peaks
+    from .signaltools import find_peaks
 
     f = np.asarray(frequencies_hz, dtype=np.float64)
     m = np.asarray(magnitude_db, dtype=np.float64)
@@ -113,7 +113,7 @@ def passband_ripple_db(frequencies_hz: np.ndarray, magnitude_db: np.ndarray, edg
     if mm.size < 3:
         return None
     floor = float(mm.min()) - 1.0  # pad so a peak at either end of the passband counts
-    peaks, _ = find_peaks(np.concatenate(([floor], mm, [floor])), prominence=RIPPLE_PROMINENCE_DB)
+    peaks = find_peaks(np.concatenate(([floor], mm, [floor])), prominence=RIPPLE_PROMINENCE_DB)
     peaks = peaks - 1
     if peaks.size < 2:
         return 0.0

@@ -124,15 +124,16 @@ class SweepOffset:
 def shift_frequency(x: np.ndarray, shift_hz: float, sample_rate_hz: int) -> np.ndarray:
     """Move every frequency of ``x`` by ``shift_hz`` (single-sideband shift).
 
-    Re{x_a(t)·e^{j2π·shift·t}} with x_a the analytic signal (scipy.signal.hilbert).
+    Re{x_a(t)·e^{j2π·shift·t}} with x_a the analytic signal (:func:`.signaltools.analytic_signal`).
     """
     from scipy.fft import next_fast_len
-    from scipy.signal import hilbert
+
+    from .signaltools import analytic_signal
 
     x = np.asarray(x, dtype=np.float64)
     if shift_hz == 0.0 or x.size == 0:
         return x.copy()
-    xa = hilbert(x, N=next_fast_len(x.size))[: x.size]
+    xa = analytic_signal(x, next_fast_len(x.size))[: x.size]
     t = np.arange(x.size, dtype=np.float64) / sample_rate_hz
     return np.real(xa * np.exp(2j * np.pi * float(shift_hz) * t))
 
@@ -164,14 +165,14 @@ def tone_offset(
     MeasurementError
         No tone stands 20 dB above the noise: the recording does not contain the stimulus.
     """
-    from scipy.signal import welch
+    from .signaltools import welch_psd
 
     fs = int(sample_rate_hz)
     y = np.asarray(recording, dtype=np.float64)
     fk = tones.frequencies_hz
     width = _search_width_hz(tones, max_offset_hz)
     nper = int(min(y.size, 2 ** np.ceil(np.log2(0.25 * fs))))
-    fw, pw = welch(y, fs=fs, nperseg=nper)
+    fw, pw = welch_psd(y, fs, segment_length=nper)
     logp = np.log(pw + pw.max() * 1e-12 + 1e-300)
     deltas = np.arange(-width, width + 1e-9, 0.25)
     score = np.array([np.sum(np.interp(fk + d, fw, logp)) for d in deltas])
@@ -345,13 +346,14 @@ def sweep_offset(
         Fewer than ten blocks lie in the passband.
     """
     from scipy.fft import next_fast_len
-    from scipy.signal import hilbert
+
+    from .signaltools import analytic_signal
 
     fs = int(sample_rate_hz)
     n = min(stimulus.size, recording.size)
     nf = next_fast_len(n)
-    xa = hilbert(np.asarray(stimulus[:n], dtype=np.float64), N=nf)[:n]
-    za = hilbert(np.asarray(recording[:n], dtype=np.float64), N=nf)[:n]
+    xa = analytic_signal(np.asarray(stimulus[:n], dtype=np.float64), nf)[:n]
+    za = analytic_signal(np.asarray(recording[:n], dtype=np.float64), nf)[:n]
     p = za * np.conj(xa)
     m = max(2, int(round(0.0025 * fs)))
     c = np.concatenate(([0.0], np.cumsum(p)))

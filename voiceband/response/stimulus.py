@@ -148,6 +148,10 @@ def active_segments(x: np.ndarray, sample_rate_hz: int, *, threshold_db: float =
     return tuple(Segment(s, e) for s, e in merged if e - s >= min_len)
 
 
+#: Frames transformed at a time by :func:`peak_frequency_track`.
+_TRACK_BATCH = 256
+
+
 def _frame_len(sample_rate_hz: int) -> int:
     return int(2 ** np.ceil(np.log2(0.025 * sample_rate_hz)))
 
@@ -165,9 +169,22 @@ def peak_frequency_track(x: np.ndarray, sample_rate_hz: int, *, frame_len: int |
     if fr.shape[0] == 0:
         return np.zeros(0), np.zeros(0), np.zeros(0)
     nfft = 4 * n
-    spec = np.abs(np.fft.rfft(fr * np.hanning(n), nfft, axis=1)) ** 2
-    idx = 1 + np.argmax(spec[:, 1:], axis=1)  # never the DC bin
-    delta, peak_log = parabolic_peak(np.log(spec + spec.max() * 1e-15 + 1e-300), idx)
+    win = np.hanning(n)
+    count = fr.shape[0]
+    idx = np.empty(count, dtype=np.int64)
+    near = np.empty((count, 3))  # power in the peak bin and its neighbours
+    top = 0.0
+    # A few hundred frames at a time: the spectra of a long sweep would take hundreds of MB.
+    for a in range(0, count, _TRACK_BATCH):
+        spec = np.abs(np.fft.rfft(fr[a:a + _TRACK_BATCH] * win, nfft, axis=1)) ** 2
+        i = 1 + np.argmax(spec[:, 1:], axis=1)  # never the DC bin
+        top = max(top, float(spec.max()))
+        idx[a:a + i.size] = i
+        near[a:a + i.size] = np.take_along_axis(spec, np.clip(i, 1, spec.shape[1] - 2)[:, None] + np.arange(-1, 2), 1)
+        # a peak on the last bin has no neighbour above: no parabola (offset 0, its own value)
+        at_top = i == spec.shape[1] - 1
+        near[a:a + i.size][at_top] = spec[at_top, i[at_top]][:, None]
+    delta, peak_log = parabolic_peak(np.log(near + top * 1e-15 + 1e-300), np.ones(count, dtype=np.int64))
     freq = (idx + delta) * sample_rate_hz / nfft
     return starts + n / 2.0, freq, np.exp(peak_log)
 
@@ -199,7 +216,7 @@ def _fit_sweep(x: np.ndarray, seg: Segment, fs: int) -> SweepParameters | None:
 
 def _tones_in(seg: np.ndarray, sample_rate_hz: int) -> tuple[np.ndarray, np.ndarray] | None:
     """(frequencies, amplitudes) of the spectral peaks of one steady segment, or None."""
-    from scipy.signal import find_peaks
+    from .signaltools import find_peaks
 
     n = seg.size
     if n < 64:
@@ -211,7 +228,7 @@ def _tones_in(seg: np.ndarray, sample_rate_hz: int) -> tuple[np.ndarray, np.ndar
     if top <= 0.0:
         return None
     pad = nfft / n
-    peaks, _ = find_peaks(mag, height=top * 10.0 ** (_TONE_THRESHOLD_DB / 20.0), distance=max(1, int(3 * pad)))
+    peaks = find_peaks(mag, height=top * 10.0 ** (_TONE_THRESHOLD_DB / 20.0), distance=max(1, int(3 * pad)))
     if peaks.size == 0 or peaks.size > _MAX_TONES:
         return None
     power = mag**2
