@@ -204,7 +204,7 @@ class RecordingAccumulator:
         lv = self.levels.result()
         act = self.activity.result()
         active = finite(lv.active_level_dbfs)
-        sn = self.speech_noise.result(act.noise_mode_dbfs)
+        sn = self.speech_noise.result(act.noise_mode_dbfs, pause_floor_dbfs=act.noise_floor_dbfs)
         # Hum and tones are referred to the speech alone where the noise could be removed.
         ref_level = sn.active_level_dbfs if sn.active_level_dbfs is not None else (
             active if active is not None else act.speech_level_dbfs)

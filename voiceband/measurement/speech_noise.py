@@ -146,16 +146,20 @@ class SpeechNoiseAccumulator:
         self.max_counts += np.bincount(_fine_bins(wmax), minlength=_FINE_BINS)
         self._recent = buf[-self._h:].copy()
 
-    def result(self, noise_mode_dbfs: Optional[float]) -> SpeechNoisePower:
+    def result(self, noise_mode_dbfs: Optional[float], *, pause_floor_dbfs: Optional[float] = None) -> SpeechNoisePower:
         """Noise power, active level and SNR, given the coarse noise mode (dBFS).
 
         ``noise_mode_dbfs`` is :attr:`ActivityResult.noise_mode_dbfs`; ``None`` (no pauses
         found) or ``-inf`` (digital silence) leave the noise and SNR unmeasured.
+        ``pause_floor_dbfs`` (the pause frames' RMS level) stands in for the noise power when
+        the fine histogram holds too few frames near the mode (very short recordings).
         """
         n = int(self.counts.sum())
         if noise_mode_dbfs is None or not math.isfinite(noise_mode_dbfs) or n == 0:
             return SpeechNoisePower(None, None, self.total, None, None, None, n)
         noise = _mirrored_noise(self.counts, self.sums, float(noise_mode_dbfs))
+        if noise is None and pause_floor_dbfs is not None and math.isfinite(pause_floor_dbfs):
+            noise = 10.0 ** (float(pause_floor_dbfs) / 10.0)
         if noise is None:
             return SpeechNoisePower(None, None, self.total, None, None, None, n)
         energy = self.total - n * noise
