@@ -168,11 +168,11 @@ def test_testsignal_refuses_to_overwrite(tmp_path):
     "args, expected",
     [
         (["multitone", "--high-hz", 30000], "Nyquist"),
-        (["tone", "--peak-dbfs", 3], "peak_dbfs"),
+        (["tone", "--peak-dbfs", 3], "--peak-dbfs"),
         (["steps", "--duration-s", 3], "--dwell-s"),
         (["two-tone", "--low-hz", 300], "--tone-hz"),
         (["tone", "--bits", 8], "--bits"),
-        (["tone", "--rate-hz", 4000], "sample"),
+        (["tone", "--rate-hz", 4000], "--rate-hz"),
     ],
 )
 def test_testsignal_bad_options(tmp_path, args, expected):

@@ -26,10 +26,7 @@ Design bench
     :func:`read_chain` -> ``Chain``; :func:`evaluate_chain`, :func:`compare_chains`, :func:`sweep_cutoffs`.
 """
 
-from __future__ import annotations
-
-import importlib
-from typing import Any
+import importlib as _importlib
 
 __version__ = "0.1.0"
 
@@ -114,15 +111,16 @@ __all__ = [
 ]
 
 
-def __getattr__(name: str) -> Any:
+def __getattr__(name: str) -> object:
     try:
         module, attr = _LAZY[name]
     except KeyError:
         raise AttributeError(f"module 'voiceband' has no attribute {name!r}") from None
-    value = getattr(importlib.import_module(module), attr)
+    value = getattr(_importlib.import_module(module), attr)
     globals()[name] = value
     return value
 
 
-def __dir__() -> list[str]:
-    return sorted(set(globals()) | set(_LAZY))
+def __dir__() -> "list[str]":
+    # The public names only (not the helpers this module imports for itself).
+    return sorted(__all__)

@@ -29,7 +29,7 @@ from typing import TYPE_CHECKING, Callable, Optional, Union
 
 import numpy as np
 
-from . import audio
+from . import audio, validate
 from .errors import MeasurementError, SignalValueError
 from .results import (
     AnalysisResult,
@@ -370,13 +370,13 @@ def _read_file(path, channel, progress, block_frames, *, timeline: bool) -> tupl
 
 
 def analyze_signal(samples: np.ndarray, sample_rate_hz: int, *, name: str = "<signal>") -> AnalysisResult:
-    """Measure a signal already in memory (native scale, full scale = ±1.0) as :func:`analyze_file` would."""
-    x = np.asarray(samples, dtype=np.float64)
-    if x.ndim != 1:
-        raise SignalValueError(f"samples must be one channel (1-D); got shape {x.shape}.")
-    fs = int(sample_rate_hz)
-    if not audio.MIN_SAMPLE_RATE_HZ <= fs <= audio.MAX_SAMPLE_RATE_HZ:
-        raise SignalValueError(f"sample_rate_hz must be 8000–192000 Hz; got {sample_rate_hz}.")
+    """Measure a signal already in memory (native scale, full scale = ±1.0) as :func:`analyze_file` would.
+
+    ``samples`` must be floating point: integer arrays are refused with a sentence saying how to
+    scale them (their full scale depends on the type), rather than read as if ±1.0 were full scale.
+    """
+    x = validate.block(samples)
+    fs = validate.sample_rate_hz(sample_rate_hz)
     if x.size < int(MIN_DURATION_S * fs):
         raise SignalValueError(f"the signal is too short to analyse ({x.size} samples); voiceband needs at least {MIN_DURATION_S} s.")
     pipe = RecordingAccumulator(fs)

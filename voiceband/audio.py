@@ -200,17 +200,24 @@ def _check_channel(channel: Channel, channels: int) -> Channel:
     if isinstance(channel, str):
         if channel == "mix":
             return channel
-        try:
-            channel = int(channel)
-        except ValueError:
-            raise AudioFormatError(
-                f"channel must be a number from 0 to {channels - 1} or 'mix', not '{channel}'."
-            ) from None
+        text = channel.strip()
+        if not (text.isdigit() or (text[:1] in "+-" and text[1:].isdigit())):
+            raise AudioFormatError(f"channel must be {_channel_choices(channels)}; got '{channel}'.")
+        channel = int(text)
+    if isinstance(channel, bool) or not isinstance(channel, (int, np.integer)):
+        raise AudioFormatError(f"channel must be {_channel_choices(channels)}; got {channel!r}.")
     if not 0 <= int(channel) < channels:
         raise AudioFormatError(
-            f"channel {channel} does not exist: the file has {channels} channel(s), numbered from 0."
+            f"channel {int(channel)} does not exist: the file has "
+            + ("one channel, numbered 0." if channels == 1 else f"{channels} channels, numbered 0 to {channels - 1}.")
         )
     return int(channel)
+
+
+def _channel_choices(channels: int) -> str:
+    if channels == 1:
+        return "0 or 'mix' (the file has one channel)"
+    return f"a whole number from 0 to {channels - 1}, or 'mix' for the mean of all {channels}"
 
 
 def _select(data: np.ndarray, channel: Channel) -> np.ndarray:

@@ -113,10 +113,18 @@ def block(samples, *, name: str = "samples") -> np.ndarray:
         return x
     if np.issubdtype(x.dtype, np.floating):
         return x.astype(np.float64)
-    if np.issubdtype(x.dtype, np.integer) or x.dtype == np.bool_:
+    if np.issubdtype(x.dtype, np.signedinteger):
+        full = 2 ** (8 * x.dtype.itemsize - 1)
         raise SignalValueError(
             f"{name} must be floating-point samples with full scale ±1.0; got integers ({x.dtype}): "
-            f"divide by the type's full scale first (32768 for int16).")
+            f"divide by {full} (the full scale of {x.dtype}) first.")
+    if np.issubdtype(x.dtype, np.unsignedinteger):
+        mid = 2 ** (8 * x.dtype.itemsize - 1)
+        raise SignalValueError(
+            f"{name} must be floating-point samples with full scale ±1.0; got unsigned integers ({x.dtype}): "
+            f"subtract {mid} and divide by {mid} first.")
+    if x.dtype == np.bool_:
+        raise SignalValueError(f"{name} must be floating-point samples with full scale ±1.0; got booleans.")
     raise SignalValueError(f"{name} must be real numbers; got dtype {x.dtype}.")
 
 

@@ -13,7 +13,8 @@ from .common import emit_json, guarded
 
 @guarded
 def analyze(
-    file: Annotated[Path, typer.Argument(help="Recording of transmit audio (WAV, FLAC, OGG, MP3, ...).", show_default=False)],
+    file: Annotated[Path, typer.Argument(help="Recording of transmit audio (WAV, FLAC, OGG, MP3, ...).", show_default=False,
+                                            metavar="FILE")],
     channel: Annotated[
         str, typer.Option("--channel", "-c", help="Channel to analyse: a number from 0, or 'mix' for the mean of all channels.")
     ] = "0",
@@ -30,11 +31,11 @@ def analyze(
         check_writable(Path(json_path), force=force, inputs=(file,))  # refuse before the work, not after
     progress = _progress_printer() if json_path != "-" and sys.stderr.isatty() else None
     result = analyze_file(file, channel=channel, progress=progress)
+    emit_json(result, json_path, force=force)  # files first: a reader that stops early loses no output
     if json_path != "-":
         from .render import print_analysis
 
         print_analysis(result)
-    emit_json(result, json_path, force=force)
 
 
 def _progress_printer() -> Any:
@@ -47,7 +48,9 @@ def _progress_printer() -> Any:
             if total < 48000 * 120:  # short files need no progress bar
                 state["p"] = None
                 return
-            p = Progress(transient=True)
+            from .render import console
+
+            p = Progress(console=console(stderr=True), transient=True)  # on stderr: stdout carries the result
             p.start()
             state["p"] = p
             state["t"] = p.add_task("analysing", total=total)

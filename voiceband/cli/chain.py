@@ -13,7 +13,7 @@ from .common import emit_json, guarded
 
 @guarded
 def chain(
-    chain_file: Annotated[Path, typer.Argument(help="Chain file (TOML: name and [[stage]] tables).", show_default=False)],
+    chain_file: Annotated[Path, typer.Argument(help="Chain file (TOML: name and [[stage]] tables).", show_default=False, metavar="CHAIN")],
     plot: Annotated[Optional[Path], typer.Option("--plot", help="Write a Bode-style figure (PNG) to FILE.", metavar="FILE")] = None,
     json_path: Annotated[
         Optional[str], typer.Option("--json", help="Also write JSON to PATH; '-' prints only JSON on stdout.", metavar="PATH|-")
@@ -49,45 +49,57 @@ def chain(
         fig = chain_figure(evaluation, comparison)
         with atomic_output(plot, force=force) as tmp:
             fig.savefig(tmp, format="png")
+    emit_json(chain_document(c, evaluation, comparison), json_path, force=force)  # files first
     if json_path != "-":
         _print_summary(c, evaluation, comparison, plot)
-    emit_json(chain_document(c, evaluation, comparison), json_path, force=force)
 
 
 def _hz(v: Optional[float]) -> str:
-    return "—" if v is None or not math.isfinite(v) else f"{v:.0f} Hz"
+    from ..report.summary import NOT_MEASURED
+
+    return NOT_MEASURED if v is None or not math.isfinite(v) else f"{v:.0f} Hz"
+
+
+def _db(v: Optional[float], digits: int = 2, sign: bool = False) -> str:
+    from ..report.summary import NOT_MEASURED, number
+
+    return NOT_MEASURED if v is None or not math.isfinite(v) else f"{number(v, digits, sign=sign)} dB"
 
 
 def _print_summary(c: Any, e: Any, m: Any, plot: Optional[Path]) -> None:
-    lines = [f"Chain            {e.name}"]
-    lines += [f"  {line}" for line in c.describe()]
+    from .render import print_report
+
+    rows: list[tuple[str, str, str, str]] = [("Chain", "Name", "", e.name)]
+    rows += [("", "Stages" if i == 0 else "", "", line) for i, line in enumerate(c.describe())]
     if e.left_out:
-        lines.append(f"Not in response  {'; '.join(e.left_out)} (run 'voiceband compare' to hear them on speech)")
+        rows.append(("", "Not in response", "", f"{'; '.join(e.left_out)} (run 'voiceband compare' to hear them on speech)"))
     ed = e.edges_hz
-    lines += [
-        f"Gain             {e.gain_db:+.2f} dB (passband)",
-        f"Passband −3 dB   {_hz(ed.low_3db)} – {_hz(ed.high_3db)}",
-        f"Passband −10 dB  {_hz(ed.low_10db)} – {_hz(ed.high_10db)}",
-        f"Ripple           {'—' if e.ripple_db is None else f'{e.ripple_db:.2f} dB'}",
-        f"Occupied band    {e.occupied_bandwidth.width_hz:.0f} Hz (99 % of standard speech power, "
-        f"{e.occupied_bandwidth.low_hz:.0f}–{e.occupied_bandwidth.high_hz:.0f} Hz)",
-        f"SII in quiet     {e.sii_quiet:.3f}",
-        f"SII with noise   " + ", ".join(f"{p.sii:.3f} at {p.snr_db:g} dB" for p in e.sii_by_channel_snr)
-        + f" (channel SNR in {e.receive_band_hz[0]:g}–{e.receive_band_hz[1]:g} Hz)",
+    ob = e.occupied_bandwidth
+    rows += [
+        ("Response", "Gain", _db(e.gain_db, sign=True), "passband"),
+        ("", "Passband −3 dB", f"{_hz(ed.low_3db)} – {_hz(ed.high_3db)}", ""),
+        ("", "Passband −10 dB", f"{_hz(ed.low_10db)} – {_hz(ed.high_10db)}", ""),
+        ("", "Ripple", _db(e.ripple_db), "inside the −3 dB passband"),
+        ("", "Occupied bandwidth", _hz(ob.width_hz), f"99 % of standard speech power, {_hz(ob.low_hz)} – {_hz(ob.high_hz)}"),
+        ("Intelligibility", "SII in quiet", f"{e.sii_quiet:.3f}", "standard speech (ANSI S3.5-1997)"),
     ]
+    for p in e.sii_by_channel_snr:
+        rows.append(("", f"SII at {p.snr_db:g} dB SNR", f"{p.sii:.3f}",
+                     f"channel noise in {e.receive_band_hz[0]:g}–{e.receive_band_hz[1]:g} Hz"))
     if e.sideband_suppression_db is not None:
         import numpy as np
 
         f = e.frequencies_hz
         band = (f >= 300.0) & (f <= 3000.0)
-        s = e.sideband_suppression_db[band]
-        lines.append(f"Sideband supp.   {float(np.min(s)):.1f} dB worst over 300–3000 Hz")
+        rows.append(("", "Sideband suppression", _db(float(np.min(e.sideband_suppression_db[band])), 1),
+                     "worst over 300–3000 Hz"))
     if m is not None:
-        def db(v):
-            return "—" if v is None else f"{v:+.2f} dB"
-        lines.append(f"Measured         {m.source}: rms difference {db(m.rms_difference_db)}, worst {db(m.max_difference_db)} "
-                     f"inside the design's −3 dB passband; gain difference {db(m.gain_difference_db)}")
+        rows += [
+            ("Measured", "Response", "", m.source),
+            ("", "RMS difference", _db(m.rms_difference_db, sign=True), "inside the design's −3 dB passband"),
+            ("", "Worst difference", _db(m.max_difference_db, sign=True), "inside the design's −3 dB passband"),
+            ("", "Gain difference", _db(m.gain_difference_db, sign=True), ""),
+        ]
     if plot is not None:
-        lines.append(f"Plot             {plot}")
-    for line in lines:
-        typer.echo(line)
+        rows.append(("Output", "Plot", "", str(plot)))
+    print_report(None, rows)

@@ -3,25 +3,34 @@
 from __future__ import annotations
 
 import functools
+import io
+import inspect
 import os
+import re
 import signal
 import sys
 import threading
+import typing
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any, Callable, Mapping, Optional
 
 import typer
 
 from ..errors import VoicebandError
 
-#: Exit codes: 0 ok, 2 bad input or refused output, 3 internal error.
+#: Exit codes: 0 ok, 2 bad input or refused output, 3 internal error; 128 + N stopped by signal N
+#: (141 when the reader of standard output went away, as a process killed by SIGPIPE).
 EXIT_BAD_INPUT = 2
 EXIT_INTERNAL = 3
+EXIT_BROKEN_PIPE = 128 + 13
+
+# A numpy scalar's repr (np.float64(700.0)) shown as its value.
+_NUMPY_REPR = re.compile(r"\bnp\.(?:float|int|uint|complex|bool_?|str_)\w*\(([^()]*)\)")
 
 
 def fail(message: str, code: int = EXIT_BAD_INPUT) -> "typer.Exit":
     """Print one sentence to stderr and return the Exit to raise."""
-    msg = message.strip()
+    msg = _NUMPY_REPR.sub(r"\1", " ".join(message.split()))
     if msg and msg[-1] not in ".!?":
         msg += "."
     typer.echo(f"voiceband: {msg}", err=True)
@@ -53,21 +62,74 @@ def _catch_termination() -> None:
             signal.signal(sig, _raise_terminated)
 
 
-def guarded(fn: Callable[..., Any]) -> Callable[..., Any]:
+def _option_names(fn: Callable[..., Any]) -> dict[str, str]:
+    """Parameter name -> the option the user types (``peak_dbfs`` -> ``--peak-dbfs``), from the typer annotations."""
+    names: dict[str, str] = {}
+    try:
+        hints = typing.get_type_hints(fn, include_extras=True)
+    except Exception:  # pragma: no cover - unresolvable annotations: keep the message as it is
+        return names
+    for pname in inspect.signature(fn).parameters:
+        for meta in getattr(hints.get(pname), "__metadata__", ()):
+            # In Annotated[..., typer.Option("--name")] the first declaration may sit in ``default``.
+            given = [getattr(meta, "default", None), *(getattr(meta, "param_decls", None) or ())]
+            decls = [d for d in given if isinstance(d, str) and d.startswith("--")]
+            if decls:
+                names[pname] = decls[0].split("/")[0]
+                if pname.endswith("_"):  # type_ (a Python keyword's stand-in) is 'type' to the library
+                    names[pname.rstrip("_")] = names[pname]
+    return names
+
+
+def in_user_words(message: str, names: Mapping[str, str]) -> str:
+    """``message`` with each internal parameter name replaced by the option the user typed."""
+    for internal in sorted(names, key=len, reverse=True):
+        if internal == names[internal]:
+            continue
+        # A snake_case name is internal wherever it appears; a plain word (``channel``) only where
+        # it opens the sentence as its subject, so ordinary prose keeps its words.
+        pattern = rf"(?<![\w-]){re.escape(internal)}(?![\w-])" if "_" in internal else rf"^{re.escape(internal)}\b"
+        message = re.sub(pattern, names[internal], message)
+    return message
+
+
+def _quiet_stdout() -> None:
+    # The reader went away: send whatever is still buffered, and the interpreter's last flush, nowhere.
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        os.close(devnull)
+    except (OSError, ValueError, AttributeError, io.UnsupportedOperation):
+        pass
+
+
+def guarded(fn: Optional[Callable[..., Any]] = None, *, options: Optional[Mapping[str, str]] = None) -> Any:
     """Wrap a command so user errors become one stderr sentence and a non-zero exit.
 
-    Set ``VOICEBAND_DEBUG=1`` to see the traceback of an internal error.
+    Messages name the options the user typed: the command's own parameters are renamed from its
+    typer annotations (``peak_dbfs`` -> ``--peak-dbfs``) and ``options`` adds the library's names
+    for them (``@guarded(options={"frequency_hz": "--tone-hz"})``).  A closed pipe on standard
+    output (``voiceband ... | head``) ends the command quietly with status 141, as for any
+    command-line tool.  Set ``VOICEBAND_DEBUG=1`` to see the traceback of an internal error.
     """
+    if fn is None:
+        return lambda f: guarded(f, options=options)
+    names = {**_option_names(fn), **dict(options or {})}
 
     @functools.wraps(fn)
     def wrapper(*args: Any, **kwargs: Any) -> Any:
         _catch_termination()
         try:
-            return fn(*args, **kwargs)
+            rv = fn(*args, **kwargs)
+            sys.stdout.flush()  # a closed pipe shows here, not at the interpreter's last flush
+            return rv
         except typer.Exit:
             raise
+        except BrokenPipeError:
+            _quiet_stdout()
+            raise typer.Exit(EXIT_BROKEN_PIPE) from None
         except VoicebandError as exc:
-            raise fail(str(exc)) from None
+            raise fail(in_user_words(str(exc), names)) from None
         except KeyboardInterrupt:
             raise fail("interrupted", 130) from None
         except Terminated as exc:

@@ -13,7 +13,7 @@ from .common import emit_json, guarded
 
 @guarded
 def compare(
-    chain_files: Annotated[list[Path], typer.Argument(help="Chain files to compare (TOML).", show_default=False)],
+    chain_files: Annotated[list[Path], typer.Argument(help="Chain files to compare (TOML).", show_default=False, metavar="CHAIN")],
     speech: Annotated[
         Optional[Path], typer.Option("--speech", help="Speech recording to run through the chains (default: synthetic speech).",
                                      metavar="FILE")
@@ -57,32 +57,38 @@ def compare(
         fig = compare_figure(result, response_curves(chains))
         with atomic_output(plot, force=force) as tmp:
             fig.savefig(tmp, format="png")
+    emit_json(compare_document(result), json_path, force=force)  # files first
     if json_path != "-":
         _print_table(result, plot)
-    emit_json(compare_document(result), json_path, force=force)
 
 
 def _f(v: Optional[float], fmt: str) -> str:
-    return "—" if v is None or not math.isfinite(v) else format(v, fmt)
+    from ..report.summary import NOT_MEASURED, number
+
+    if v is None or not math.isfinite(v):
+        return NOT_MEASURED
+    digits = int(fmt.strip(".f") or 0)
+    return number(v, digits)
 
 
 def _print_table(r: Any, plot: Optional[Path]) -> None:
+    from .render import Item, print_grid
+
     snrs = list(r.snrs_db)
-    typer.echo(f"Speech: {r.speech}, {r.duration_s:.1f} s at {r.sample_rate_hz} Hz; channel noise in "
+    heading = (f"Speech: {r.speech}, {_f(r.duration_s, '.1f')} s at {r.sample_rate_hz} Hz; channel noise in "
                f"{r.receive_band_hz[0]:g}–{r.receive_band_hz[1]:g} Hz")
-    head = f"{'chain':<40} {'occupied':>9} {'−3 dB edges':>13} {'SII quiet':>9} {'STOI':>5} {'PAPR':>6} {'clipped':>8}"
-    typer.echo(head)
+    headers = ["Chain", "Occupied", "−3 dB edges", "SII quiet", "STOI", "PAPR", "Clipped"]
+    rows = []
     for row in r.chains:
         e = row.edges_hz
-        edges = f"{_f(e.low_3db, '.0f')}–{_f(e.high_3db, '.0f')}"
-        mark = "*" if row.best else " "
-        typer.echo(f"{mark}{row.name[:39]:<39} {row.occupied_bandwidth_hz:>6.0f} Hz {edges:>13} {row.sii_quiet:>9.3f} "
-                   f"{_f(row.stoi, '.3f'):>5} {row.peak_to_average_db:>4.1f}dB {100 * row.clipped_fraction:>7.2f}%")
-    typer.echo("SII with channel noise, SNR referred to average power / to peak power:")
-    typer.echo(f"{'chain':<40} " + " ".join(f"{f'{s:g} dB':>13}" for s in snrs))
-    for row in r.chains:
-        cells = " ".join(f"{p.sii_average_ref:>6.3f}/{p.sii_peak_ref:<6.3f}" for p in row.sii_by_channel_snr)
-        typer.echo(f"{' ' if not row.best else '*'}{row.name[:39]:<39} {cells}")
-    typer.echo(f"Best: {r.reason}")
-    if plot is not None:
-        typer.echo(f"Plot: {plot}")
+        rows.append([("* " if row.best else "") + row.name, f"{_f(row.occupied_bandwidth_hz, '.0f')} Hz",
+                     f"{_f(e.low_3db, '.0f')}–{_f(e.high_3db, '.0f')} Hz", _f(row.sii_quiet, ".3f"),
+                     _f(row.stoi, ".3f"), f"{_f(row.peak_to_average_db, '.1f')} dB",
+                     f"{_f(100 * row.clipped_fraction, '.2f')} %"])
+    print_grid(heading, headers, rows)
+    print_grid("SII with channel noise, SNR referred to average power / to peak power",
+               ["Chain", *[f"{s:g} dB" for s in snrs]],
+               [[("* " if row.best else "") + row.name,
+                 *[f"{_f(p.sii_average_ref, '.3f')} / {_f(p.sii_peak_ref, '.3f')}" for p in row.sii_by_channel_snr]]
+                for row in r.chains],
+               [Item("note", f"Best: {r.reason} (marked *)")] + ([Item("note", f"Plot: {plot}")] if plot is not None else []))

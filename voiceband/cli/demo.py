@@ -19,4 +19,6 @@ def demo(
     from ..demo import run_demo
 
     index = run_demo(out, force=force, progress=lambda text: typer.echo(text, err=True))
-    typer.echo(f"Demo written. Open {index} in a web browser.")
+    from .render import print_report
+
+    print_report(f"Demo written. Open {index} in a web browser.", [])

@@ -11,8 +11,11 @@ import importlib
 
 import typer
 
+from .usage import VoicebandGroup
+
 app = typer.Typer(
     name="voiceband",
+    cls=VoicebandGroup,
     help="Measure and model the transmit audio of voice radio: levels, clipping, hum, "
     "noise, bandwidth and speech intelligibility.",
     no_args_is_help=True,
@@ -50,8 +53,22 @@ def _root(
     """Measure and model the transmit audio of voice radio."""
 
 
+# One line each in 'voiceband --help' (a command missing here shows its docstring's start).
+_SUMMARIES = {
+    "analyze": "Measure a recording of transmit audio.",
+    "report": "Write an on-air test report judging a recording for a service.",
+    "demo": "Write a worked example on synthetic speech.",
+    "response": "Measure a chain's response from a recorded test signal.",
+    "synth": "Regenerate the synthetic speech corpus from its spec files.",
+    "testsignal": "Write a test signal: sweep, multitone, two-tone, tone or steps.",
+    "chain": "Response, edges and SII of a chain file.",
+    "compare": "Run chains on the same speech and compare them.",
+    "sweep": "Find the best filter cutoffs for a bandwidth limit.",
+    "batch": "Analyse many recordings into one table (CSV, JSON lines or Parquet).",
+}
+
 for _name, _module, _func in _COMMANDS:
-    app.command(_name)(getattr(importlib.import_module(_module), _func))
+    app.command(_name, short_help=_SUMMARIES.get(_name))(getattr(importlib.import_module(_module), _func))
 
 
 def main() -> None:

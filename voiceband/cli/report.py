@@ -37,4 +37,6 @@ def report(
                   inputs=[file] + ([before] if before is not None else []))
     rep = build_report(file, profile=prof, before=before, channel=channel, title=title, notes=notes)
     index = write_report(rep, folder, force=force, pdf=pdf)
-    typer.echo(f"Report written: {index}  (open it in a web browser)")
+    from .render import print_report
+
+    print_report(f"Report written: {index}  (open it in a web browser)", [])

@@ -7,13 +7,16 @@ from typing import Annotated, Any, Optional
 
 import typer
 
+from ..cautions import TRANSMITTER_CAUTION
 from .common import emit_json, guarded
 
 
 @guarded
 def response(
-    stimulus: Annotated[Path, typer.Argument(help="The test signal as played (a sweep or multitone file).", show_default=False)],
-    recording: Annotated[Path, typer.Argument(help="What the chain delivered when the test signal was played into it.", show_default=False)],
+    stimulus: Annotated[Path, typer.Argument(help="The test signal as played (a sweep or multitone file).", show_default=False,
+                                                    metavar="STIMULUS")],
+    recording: Annotated[Path, typer.Argument(help="What the chain delivered when the test signal was played into it.",
+                                                     show_default=False, metavar="RECORDING")],
     out: Annotated[
         Optional[Path], typer.Option("--out", help="Folder for the Bode plot (PNG).", metavar="DIR")
     ] = None,
@@ -26,7 +29,11 @@ def response(
     force: Annotated[bool, typer.Option("--force", help="Overwrite existing output files.")] = False,
 ) -> None:
     """Measure magnitude and phase response, passband edges, ripple, distortion and
-    carrier offset of a chain from a recording of a sweep or multitone."""
+    carrier offset of a chain from a recording of a sweep or multitone.
+
+    Playing the test signal into a transmitter keys it at 100 % duty: use a dummy load where
+    possible, stay within your licence and the transmitter's duty cycle; local regulations and
+    licensed practice come first."""
     from ..audio import read
     from ..errors import OutputExistsError
     from ..outputs import atomic_output, check_writable
@@ -52,17 +59,18 @@ def response(
         fig = bode_figure(result)
         with atomic_output(png, force=force, make_folders=True) as tmp:
             fig.savefig(tmp, format="png")
+    emit_json(doc, json_path, force=force, make_folders=json_in_out)  # files first: a reader that stops early loses no output
     if json_path != "-":
         _print_summary(result, png)
-    emit_json(doc, json_path, force=force, make_folders=json_in_out)
 
 
 def _print_summary(r: Any, png: Optional[Path]) -> None:
-    from ..report.summary import response_lines
+    from ..report.summary import response_rows
+    from .render import Item, print_report
 
-    for line in response_lines(r):
-        typer.echo(line)
-    for f in r.findings:
-        typer.echo(f"Note: {f.message}")
+    rows = response_rows(r)
     if png is not None:
-        typer.echo(f"Plot             {png}")
+        rows.append(("Output", "Plot", "", str(png)))
+    items = [Item(f.severity, f.message) for f in r.findings]
+    items.append(Item("caution", TRANSMITTER_CAUTION))
+    print_report(None, rows, items, items_title="Notes")

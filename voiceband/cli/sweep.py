@@ -61,27 +61,39 @@ def sweep(
         fig = sweep_figure(result)
         with atomic_output(plot, force=force) as tmp:
             fig.savefig(tmp, format="png")
+    emit_json(sweep_document(result), json_path, force=force)  # files first
     if json_path != "-":
         _print_summary(result, plot)
-    emit_json(sweep_document(result), json_path, force=force)
 
 
 def _print_summary(r, plot: Optional[Path]) -> None:
+    from ..report.summary import number
+    from .render import print_report
+
     snrs = ", ".join(f"{s:g}" for s in r.snrs_db)
-    typer.echo(f"Swept            {r.low_hz.size} × {r.high_hz.size} cutoffs, {r.type} order {r.order}, "
-               f"{r.candidates_scored} pairs scored; speech: {r.speech}")
-    typer.echo(f"Score            SII averaged over {snrs} dB channel SNR "
-               f"(noise in {r.receive_band_hz[0]:g}–{r.receive_band_hz[1]:g} Hz)")
-    limit = "no limit" if r.max_bandwidth_hz is None else f"occupied bandwidth ≤ {r.max_bandwidth_hz:g} Hz"
+    limit = "no limit" if r.max_bandwidth_hz is None else f"occupied bandwidth at most {r.max_bandwidth_hz:g} Hz"
+    rows: list[tuple[str, str, str, str]] = [
+        ("Search", "Swept", f"{r.low_hz.size} × {r.high_hz.size}",
+         f"cutoffs, {r.type} order {r.order}, {r.candidates_scored} pairs scored"),
+        ("", "Speech", "", str(r.speech)),
+        ("", "Score", "", f"SII averaged over {snrs} dB channel SNR (noise in {r.receive_band_hz[0]:g}–{r.receive_band_hz[1]:g} Hz)"),
+        ("", "Limit", "", limit),
+    ]
     if r.best is None:
-        typer.echo(f"Best             none within {limit}; widen the ranges or raise --max-bandwidth")
+        rows.append(("Best", "Pair", "none", "none within the limit; widen the ranges or raise --max-bandwidth"))
     else:
         b = r.best
-        typer.echo(f"Best ({limit})  high-pass {b.low_hz:g} Hz, low-pass {b.high_hz:g} Hz: SII {b.sii:.3f} "
-                   f"(quiet {b.sii_quiet:.3f}), occupied {b.occupied_bandwidth_hz:.0f} Hz")
-    typer.echo(f"Pareto front     {len(r.pareto)} pairs (SII against occupied bandwidth):")
+        rows += [
+            ("Best", "High-pass", f"{b.low_hz:g} Hz", ""),
+            ("", "Low-pass", f"{b.high_hz:g} Hz", ""),
+            ("", "SII", f"{b.sii:.3f}", f"quiet {b.sii_quiet:.3f}"),
+            ("", "Occupied bandwidth", f"{number(b.occupied_bandwidth_hz, 0)} Hz", "99 % of the speech power"),
+        ]
     step = max(1, len(r.pareto) // 8)
+    rows.append(("Pareto front", "Pairs", str(len(r.pareto)), "SII against occupied bandwidth; every "
+                 + ("pair" if step == 1 else f"{step}th pair") + " shown"))
     for c in list(r.pareto)[::step]:
-        typer.echo(f"  {c.low_hz:>6g}–{c.high_hz:<6g} Hz  occupied {c.occupied_bandwidth_hz:5.0f} Hz  SII {c.sii:.3f}")
+        rows.append(("", f"{c.low_hz:g}–{c.high_hz:g} Hz", f"SII {c.sii:.3f}", f"occupied {number(c.occupied_bandwidth_hz, 0)} Hz"))
     if plot is not None:
-        typer.echo(f"Plot             {plot}")
+        rows.append(("Output", "Plot", "", str(plot)))
+    print_report(None, rows)

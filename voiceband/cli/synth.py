@@ -31,14 +31,18 @@ def synth(
 ) -> None:
     """Render synthetic speech recordings from spec files and record their hashes in a manifest."""
     from ..errors import ChainFileError
+    from ..report.summary import number
     from ..synth import corpus
 
     paths = list(specs) if specs else corpus.default_spec_paths(_DEFAULT_FOLDER)
     if not paths:
         raise ChainFileError(f"no spec files given and none found in '{_DEFAULT_FOLDER}/'.")
+    from .render import Item, print_report
+
     if verify:
         results = corpus.verify(paths, out / corpus.MANIFEST_NAME)
         bad = 0
+        rows = []
         for name, recorded, now in results:
             if recorded is None:
                 state = "not in manifest"
@@ -48,14 +52,14 @@ def synth(
             else:
                 state = "DIFFERENT"
                 bad += 1
-            typer.echo(f"{name:32s} {state:16s} {now[:16]}")
+            rows.append(("", name, state, f"sha256 {now[:16]}"))
+        summary = [] if bad else [Item("info", f"All {len(results)} file(s) match the manifest.")]
+        print_report(f"Regenerated and compared with {out / corpus.MANIFEST_NAME}", rows, summary, items_title="Result")
         if bad:
             raise fail(f"{bad} of {len(results)} regenerated file(s) do not match '{out / corpus.MANIFEST_NAME}'", EXIT_BAD_INPUT)
-        typer.echo(f"All {len(results)} file(s) match the manifest.")
         return
 
-    def report(e) -> None:
-        typer.echo(f"{str(out / e.file):40s} {e.duration_s:5.1f} s  {e.sample_rate_hz:6d} Hz  {e.subtype}  sha256 {e.sha256[:16]}")
-
-    written = corpus.generate(paths, out, force=force, progress=report)
-    typer.echo(f"Wrote {len(written)} file(s) and {out / corpus.MANIFEST_NAME}.")
+    written = corpus.generate(paths, out, force=force)
+    rows = [("", str(out / e.file), f"{number(e.duration_s, 1)} s",
+             f"{e.sample_rate_hz} Hz, {e.subtype}, sha256 {e.sha256[:16]}") for e in written]
+    print_report(f"Wrote {len(written)} file(s) and {out / corpus.MANIFEST_NAME}", rows)

@@ -19,10 +19,15 @@ class Kind(str, enum.Enum):
     steps = "steps"
 
 
-_SUBTYPE = {16: "PCM_16", 24: "PCM_24", 32: "FLOAT"}
+# The generators' parameter names, as the options that set them.
+_OPTION_OF = {
+    "level_dbfs": "--peak-dbfs", "frequency_hz": "--tone-hz", "tones_hz": "--tone-hz", "frequencies_hz": "--tone-hz",
+    "n_tones": "--tones", "start_hz": "--low-hz", "stop_hz": "--high-hz", "sample_rate_hz": "--rate-hz",
+    "bits": "--bits",
+}
 
 
-@guarded
+@guarded(options=_OPTION_OF)
 def testsignal(
     kind: Annotated[
         Kind,
@@ -30,9 +35,10 @@ def testsignal(
             help="sweep: exponential sine sweep with start/stop markers; multitone: Schroeder-phase "
             "multitone; two-tone: SSB two-tone pair; tone: reference tone; steps: stepped tones.",
             show_default=False,
+            metavar="KIND",
         ),
     ],
-    out: Annotated[Path, typer.Option("--out", "-o", help="Output file (.wav or .flac).", show_default=False)],
+    out: Annotated[Path, typer.Option("--out", "-o", help="Output file: .wav or .flac (lossless; a test signal must reach the chain as written).", show_default=False)],
     peak_dbfs: Annotated[
         Optional[float],
         typer.Option("--peak-dbfs", help="Sample peak level, dBFS (default -20 for 'tone', -6 otherwise).", show_default=False),
@@ -59,17 +65,23 @@ def testsignal(
     dwell_s: Annotated[float, typer.Option("--dwell-s", help="steps: length of each tone.")] = 0.5,
     gap_s: Annotated[float, typer.Option("--gap-s", help="steps: silence between tones.")] = 0.1,
     markers: Annotated[bool, typer.Option("--markers/--no-markers", help="sweep: add the start/stop marker chirps.")] = True,
-    bits: Annotated[int, typer.Option("--bits", help="Sample format: 16 or 24 (integer PCM) or 32 (float).")] = 24,
+    bits: Annotated[int, typer.Option("--bits", help="Sample format: 16 or 24 (integer PCM) or 32 (float, .wav only).")] = 24,
     force: Annotated[bool, typer.Option("--force", help="Overwrite an existing file.")] = False,
 ) -> None:
-    """Write a test signal for measuring a transmit chain; prints its levels (and the multitone crest factor)."""
+    """Write a test signal for measuring a transmit chain; prints its levels (and the multitone crest factor).
+
+    A steady test signal keys a transmitter at 100 % duty: use a dummy load where possible, stay
+    within your licence and the transmitter's duty cycle; local regulations and licensed practice
+    come first."""
     from ..audio import write
+    from ..cautions import TRANSMITTER_CAUTION
     from ..errors import SignalValueError
     from ..outputs import check_writable
-    from ..synth.testsignals import make_test_signal
+    from ..report.summary import number
+    from ..synth.testsignals import file_subtype, make_test_signal
+    from .render import Item, print_report
 
-    if bits not in _SUBTYPE:
-        raise SignalValueError(f"--bits must be 16, 24 or 32, got {bits}.")
+    subtype = file_subtype(str(out), bits)
     check_writable(out, force=force, make_folders=True)
     k = Kind(kind)
     if k is Kind.steps and duration_s is not None:
@@ -86,7 +98,7 @@ def testsignal(
     sig = make_test_signal(k.value, sample_rate_hz=rate_hz, peak_dbfs=peak_dbfs, duration_s=duration_s, low_hz=low_hz,
                            high_hz=high_hz, tones=tones, tone_hz=tone_hz, dwell_s=dwell_s, gap_s=gap_s, markers=markers)
     samples, fs = sig.samples, sig.sample_rate_hz
-    write(out, samples, fs, subtype=_SUBTYPE[bits], force=force, make_folders=True)
-    typer.echo(f"{out}: {samples.size / fs:.3f} s at {fs} Hz, {_SUBTYPE[bits]}")
-    for line in sig.lines:
-        typer.echo("  " + line)
+    write(out, samples, fs, subtype=subtype, force=force, make_folders=True)
+    rows = [("", "Written", f"{number(samples.size / fs, 3)} s", f"{fs} Hz, {subtype}")]
+    rows += [("", "Signal" if i == 0 else "", "", line) for i, line in enumerate(sig.lines)]
+    print_report(str(out), rows, [Item("caution", TRANSMITTER_CAUTION)], items_title="Before you transmit")

@@ -67,13 +67,32 @@ _MIN_PHASE_SNR_DB = 10.0
 _GUARD_S = 0.02
 
 
+#: A harmonic less than this far above the measurement's own floor is reported as below the floor:
+#: there the floor makes up a quarter or more of the power read, so the figure is mostly the
+#: method's (our choice; 6 dB is a power ratio of 4).
+FLOOR_MARGIN_DB = 6.0
+
+
 @dataclass(frozen=True)
 class HarmonicLevel:
     """Level of one harmonic order relative to the fundamental, power-averaged over the
-    passband; None when it was not measurable (below the noise, or outside the band)."""
+    passband; None when it was not measurable (below the noise, or outside the band).
+
+    ``floor_db_re_fundamental`` is what the same analysis reads for a perfect chain (the
+    stimulus deconvolved with itself): band-limiting, windowing and the sample format leave
+    that much in the harmonic windows, so a level within :data:`FLOOR_MARGIN_DB` of it says
+    only that the harmonic is at most about that low (``below_floor``).
+    """
 
     order: int
     level_db_re_fundamental: float | None
+    floor_db_re_fundamental: float | None = None
+
+    @property
+    def below_floor(self) -> bool:
+        """The level lies within :data:`FLOOR_MARGIN_DB` of (or under) the measurement's own floor."""
+        return (self.level_db_re_fundamental is not None and self.floor_db_re_fundamental is not None
+                and self.level_db_re_fundamental < self.floor_db_re_fundamental + FLOOR_MARGIN_DB)
 
 
 @dataclass(frozen=True)
@@ -346,6 +365,11 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     hi = edges.high_3db if edges.high_3db is not None else band[1]
     inpass = (freqs >= lo) & (freqs <= hi) & np.isfinite(mag)
     levels = np.full((len(HARMONIC_ORDERS), freqs.size), np.nan)
+    # The method's own floor: the same analysis of the stimulus through a perfect chain (itself).
+    ideal = deconvolve(_take(x, xs_start, xs.size + tail), xs, sample_rate_hz=fs, band_hz=(sw.start_hz, sw.stop_hz))
+    isep = separate_harmonics(ideal, rate_constant_s=lc, peak_search_lags=search, orders=HARMONIC_ORDERS,
+                              post_s=ir_window_s)
+    ih1_pow = np.abs(window_response(isep.linear, freqs, fs) / band_limit_response(ideal, freqs)[0]) ** 2
     harmonics = []
     for i, win in enumerate(sep.harmonics):
         k = win.order
@@ -362,7 +386,13 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
             if np.any(sel) and np.sum(pk[sel]) >= 2.0 * np.sum(nk[sel]):
                 mean_ratio = float(np.mean((pk[sel] - nk[sel]) / h1_pow[ok][sel]))
                 summary = float(10.0 * np.log10(mean_ratio)) if mean_ratio > 0.0 else None
-        harmonics.append(HarmonicLevel(k, summary))
+        floor = None
+        if np.any(ok) and np.any(inpass[ok]):
+            fk = k * freqs[ok][inpass[ok]]
+            ipk = np.abs(window_response(isep.harmonics[i], fk, fs) / band_limit_response(ideal, fk)[0]) ** 2
+            ratio_floor = float(np.mean(ipk / ih1_pow[ok][inpass[ok]]))
+            floor = float(10.0 * np.log10(ratio_floor)) if ratio_floor > 0.0 else None
+        harmonics.append(HarmonicLevel(k, summary, floor))
     with np.errstate(invalid="ignore"):
         thd_p = np.nansum(10.0 ** (levels / 10.0), axis=0)
     has_any = np.any(np.isfinite(levels), axis=0)

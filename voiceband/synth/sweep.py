@@ -118,9 +118,9 @@ def _check_inputs(start_hz, stop_hz, duration_s, sample_rate_hz, level_dbfs) -> 
     f1 = float(start_hz)
     f2 = float(stop_hz)
     if not np.isfinite(f1) or f1 <= 0.0:
-        raise SignalValueError(f"start_hz must be a positive frequency, got {start_hz}.")
+        raise SignalValueError(f"start_hz must be a positive frequency, got {f1:g}.")
     if not np.isfinite(f2) or f2 <= 0.0:
-        raise SignalValueError(f"stop_hz must be a positive frequency, got {stop_hz}.")
+        raise SignalValueError(f"stop_hz must be a positive frequency, got {f2:g}.")
     f2 = min(f2, MAX_STOP_FRACTION_OF_NYQUIST * fs / 2.0)
     if f2 < 2.0 * f1:
         raise SignalValueError(
@@ -129,10 +129,10 @@ def _check_inputs(start_hz, stop_hz, duration_s, sample_rate_hz, level_dbfs) -> 
         )
     t = float(duration_s)
     if not np.isfinite(t) or t < 0.5 or t > 600.0:
-        raise SignalValueError(f"duration_s must be from 0.5 to 600 s, got {duration_s}.")
+        raise SignalValueError(f"duration_s must be from 0.5 to 600 s, got {t:g}.")
     lv = float(level_dbfs)
     if not np.isfinite(lv) or lv > 0.0 or lv < -60.0:
-        raise SignalValueError(f"level_dbfs must be from -60 to 0 dBFS (sample peak), got {level_dbfs}.")
+        raise SignalValueError(f"level_dbfs must be from -60 to 0 dBFS (sample peak), got {lv:g}.")
     return f1, f2, t, fs, lv
 
 

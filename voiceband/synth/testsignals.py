@@ -29,7 +29,47 @@ __all__ = [
     "RenderedTestSignal",
     "default_peak_dbfs",
     "make_test_signal",
+    "SUBTYPE_OF_BITS",
+    "file_subtype",
 ]
+
+#: Sample format of each ``--bits``: integer PCM, or 32-bit float.
+SUBTYPE_OF_BITS = {16: "PCM_16", 24: "PCM_24", 32: "FLOAT"}
+
+
+def file_subtype(name: str, bits: int) -> str:
+    """The sample format to write a test signal to a file called ``name`` with ``bits`` bits.
+
+    A test signal must reach the chain as generated, so only lossless formats are written:
+    WAV (16- or 24-bit integer, 32-bit float) and FLAC (16 or 24 bits; the FLAC format holds
+    integer samples of at most 24 bits in libsndfile, and no floating-point samples).
+
+    >>> file_subtype("sweep.flac", 24)
+    'PCM_24'
+    >>> file_subtype("sweep.ogg", 24)
+    Traceback (most recent call last):
+    ...
+    voiceband.errors.AudioFormatError: cannot write 'sweep.ogg': .ogg is lossy (Ogg Vorbis), and a test signal must reach the chain sample for sample; use a .wav or .flac file name.
+    """
+    from pathlib import PurePath
+
+    from ..errors import AudioFormatError, SignalValueError
+
+    if bits not in SUBTYPE_OF_BITS:
+        raise SignalValueError(f"bits must be 16, 24 or 32; got {bits}.")
+    ext = PurePath(name).suffix.lower()
+    lossy = {".ogg": "Ogg Vorbis", ".oga": "Ogg Vorbis", ".opus": "Opus", ".mp3": "MP3", ".m4a": "AAC", ".aac": "AAC"}
+    if ext in lossy:
+        raise AudioFormatError(
+            f"cannot write '{PurePath(name).name}': {ext} is lossy ({lossy[ext]}), and a test signal must reach "
+            "the chain sample for sample; use a .wav or .flac file name.")
+    if ext not in (".wav", ".flac"):
+        raise AudioFormatError(f"cannot write '{PurePath(name).name}': use a .wav or .flac file name.")
+    if ext == ".flac" and bits == 32:
+        raise AudioFormatError(
+            f"cannot write '{PurePath(name).name}' with 32 bits: FLAC holds integer samples of at most 24 bits; "
+            "use 16 or 24 bits, or a .wav file for 32-bit float.")
+    return SUBTYPE_OF_BITS[bits]
 
 #: The kinds of test signal, as the command line names them.
 KINDS = ("sweep", "multitone", "two-tone", "tone", "steps")

@@ -94,7 +94,7 @@ class SteppedTones:
 def _check_peak(peak_dbfs: float) -> float:
     p = float(peak_dbfs)
     if not np.isfinite(p) or p > 0.0 or p < -120.0:
-        raise SignalValueError(f"peak_dbfs must be from -120 to 0 dBFS, got {peak_dbfs}.")
+        raise SignalValueError(f"peak_dbfs must be from -120 to 0 dBFS, got {p:g}.")
     return p
 
 
@@ -205,7 +205,7 @@ def multitone(
     if k != n_tones or k < 2 or k > 10000:
         raise SignalValueError(f"n_tones must be a whole number from 2 to 10000, got {n_tones}.")
     if not float(low_hz) < float(high_hz):
-        raise SignalValueError(f"low_hz ({low_hz} Hz) must be below high_hz ({high_hz} Hz).")
+        raise SignalValueError(f"low_hz ({float(low_hz):g} Hz) must be below high_hz ({float(high_hz):g} Hz).")
     freqs = _check_freqs(np.linspace(float(low_hz), float(high_hz), k), fs, "multitone frequencies")
     phases = schroeder_phases(k) if schroeder else np.zeros(k)
     t = np.arange(n, dtype=np.float64) / fs
@@ -247,7 +247,7 @@ def two_tone(
     peak = _check_peak(peak_dbfs)
     f = _check_freqs(tones_hz, fs, "tones_hz")
     if f.size != 2 or f[0] == f[1]:
-        raise SignalValueError(f"tones_hz must be two different frequencies, got {list(f)}.")
+        raise SignalValueError(f"tones_hz must be two different frequencies, got {', '.join(f'{v:g}' for v in f)} Hz.")
     t = np.arange(n, dtype=np.float64) / fs
     x = np.cos(2.0 * np.pi * f[0] * t) + np.cos(2.0 * np.pi * f[1] * t)
     x = x * _ramp(n, _ramp_len(ramp_s, fs))
@@ -321,9 +321,9 @@ def stepped_tones(
     peak = _check_peak(peak_dbfs)
     f = _check_freqs(frequencies_hz, fs, "frequencies_hz")
     if not np.isfinite(dwell_s) or dwell_s <= 0.0 or dwell_s > 600.0:
-        raise SignalValueError(f"dwell_s must be more than 0 and at most 600 s, got {dwell_s}.")
+        raise SignalValueError(f"dwell_s must be more than 0 and at most 600 s, got {float(dwell_s):g}.")
     if not np.isfinite(gap_s) or gap_s < 0.0 or gap_s > 600.0:
-        raise SignalValueError(f"gap_s must be from 0 to 600 s, got {gap_s}.")
+        raise SignalValueError(f"gap_s must be from 0 to 600 s, got {float(gap_s):g}.")
     n_dwell = max(1, int(round(dwell_s * fs)))
     n_gap = int(round(gap_s * fs))
     if f.size * (n_dwell + n_gap) + n_gap > 3600 * fs:
