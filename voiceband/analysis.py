@@ -59,6 +59,8 @@ __all__ = [
 MIN_DURATION_S = 0.25
 #: Clip events listed one by one in the result (all are counted).
 MAX_LISTED_CLIP_EVENTS = 1000
+#: Steady tones more than this far below the recording's RMS level are not reported (dB).
+TONE_FLOOR_DB = 50.0
 #: Low end of the span the occupied bandwidth is taken over (Hz); the high end is fs/2.
 OBW_SPAN_LOW_HZ = 20.0
 
@@ -71,6 +73,9 @@ if TYPE_CHECKING:  # typing only: the accumulators are imported when a pipeline 
     from .measurement.levels import LevelsResult
     from .measurement.spectrum import SpectrumResult
     from .measurement.voice import VoiceResult
+    from .measurement.speech_noise import SpeechNoisePower
+    from .measurement.edges import FineEdges
+    from .bands import BandLevels
 
 ProgressFn = Callable[[int, int], None]
 
@@ -100,6 +105,19 @@ class Measurements:
         Hum analysis windows seen; 0 means the recording was too short to look for hum.
     voice : VoiceResult
         Talker F0 range.
+    speech_noise : SpeechNoisePower or None
+        Noise power, active level of the speech alone and SNR by power subtraction
+        (:mod:`voiceband.measurement.speech_noise`).
+    fine_edges : FineEdges or None
+        Passband edges from the fine spectrum with their ranges (:mod:`voiceband.measurement.edges`).
+    tones : tuple of SteadyTone
+        Steady tones (CTCSS and others) in the pauses, or throughout a steady signal.
+    mains_comb : bool
+        Whether ``hum`` is a comb of mains harmonics that no steady tone explains.
+    sii_speech, sii_noise : BandLevels or None
+        The SII inputs: active speech band power by power subtraction, and the noise.
+    sii_unmeasurable : str or None
+        Why the SII cannot be measured from this recording (no usable pauses).
     """
 
     levels: LevelsResult
@@ -111,6 +129,13 @@ class Measurements:
     hum: Optional[HumResult]
     hum_window_count: int
     voice: VoiceResult
+    speech_noise: Optional[SpeechNoisePower] = None
+    fine_edges: Optional[FineEdges] = None
+    tones: tuple = ()
+    mains_comb: bool = False
+    sii_speech: Optional[BandLevels] = None
+    sii_noise: Optional[BandLevels] = None
+    sii_unmeasurable: Optional[str] = None
 
 
 class RecordingAccumulator:
@@ -137,6 +162,7 @@ class RecordingAccumulator:
         from .measurement.levels import LevelsAccumulator
         from .measurement.spectrum import LongTermSpectrumAccumulator
         from .measurement.voice import VoiceReservoir
+        from .measurement.speech_noise import SpeechNoiseAccumulator
 
         self.activity = ActivityAccumulator(sample_rate_hz)  # checks the rate
         fs = self.activity.sample_rate_hz
@@ -146,6 +172,7 @@ class RecordingAccumulator:
         self.spectrum = LongTermSpectrumAccumulator(fs, self.activity.nfft)
         self.hum = HumAccumulator(fs)
         self.voice = VoiceReservoir(fs)
+        self.speech_noise = SpeechNoiseAccumulator((self.activity.nfft // 2) / fs)
         self.timeline = None
         if timeline:  # only for the report's figures: level over time, coarse spectrogram, histogram
             from .measurement.timeline import TimelineAccumulator
@@ -163,8 +190,9 @@ class RecordingAccumulator:
                            sample_rate_hz=self.sample_rate_hz)
         self.levels.update(block)  # raises SignalValueError on a bad block before anything else sees it
         self.clipping.update(block)
-        frames, bins, first, x32 = self.activity.update_frames(block)
+        frames, bins, first, x32, ms = self.activity.update_frames(block)
         self.spectrum.update_frames(frames, bins, first)
+        self.speech_noise.update(ms)
         self.hum.update(x32)
         self.voice.update(x32)
         if self.timeline is not None:
@@ -175,26 +203,87 @@ class RecordingAccumulator:
         """Everything measured so far (does not change the accumulator)."""
         from .measurement.activity import classify_level_bins
         from .measurement.bandwidth import occupied_bandwidth, passband_edges
+        from .measurement.edges import fine_edges
+        from .measurement.speech_noise import noise_psd_at_level
+        from .measurement.tones import is_mains_comb, steady_tones
 
         lv = self.levels.result()
         act = self.activity.result()
         active = finite(lv.active_level_dbfs)
-        hum = self.hum.result(reference_level_dbfs=active if active is not None else act.speech_level_dbfs)
+        sn = self.speech_noise.result(act.noise_mode_dbfs, pause_floor_dbfs=act.noise_floor_dbfs)
+        # Hum and tones are referred to the speech alone where the noise could be removed.
+        ref_level = sn.active_level_dbfs if sn.active_level_dbfs is not None else (
+            active if active is not None else act.speech_level_dbfs)
+        hum = self.hum.result(reference_level_dbfs=ref_level)
         voice = self.voice.result(min_level_dbfs=act.speech_threshold_dbfs)
-        spectrum = obw = edges = None
+        spectrum = obw = edges = fine = None
+        tones: tuple = ()
+        sii_speech = sii_noise = None
+        sii_why = None
         if act.frame_count > 0:
             speech_bins, pause_bins, _ = classify_level_bins(self.activity.counts)
             spectrum = self.spectrum.result(speech_bins, pause_bins)
+            freqs = spectrum.freqs_hz
+            noise_psd = spectrum.noise_psd_fs2_per_hz
+            if noise_psd is not None and sn.noise_power_fs2 is not None:
+                noise_psd = noise_psd_at_level(noise_psd, freqs, sn.noise_power_fs2)
+            steady = act.noise_mode_dbfs is None
+            line_psd = spectrum.speech_psd_fs2_per_hz if steady else spectrum.noise_psd_fs2_per_hz
+            if line_psd is not None:
+                low = self.hum.quiet_spectrum()
+                rms = finite(lv.rms_dbfs)
+                tones = steady_tones(line_psd, freqs, low_psd=None if low is None else low[1],
+                                     low_freqs_hz=None if low is None else low[0],
+                                     min_level_dbfs=(rms - TONE_FLOOR_DB) if rms is not None else -math.inf)
             if spectrum.speech_band_db is not None:
                 try:
-                    obw = occupied_bandwidth(spectrum.speech_psd_fs2_per_hz, spectrum.freqs_hz,
+                    obw = occupied_bandwidth(spectrum.speech_psd_fs2_per_hz, freqs,
                                              span_hz=(OBW_SPAN_LOW_HZ, self.sample_rate_hz / 2.0))
                 except MeasurementError:
                     obw = None
-                if act.noise_mode_dbfs is not None:  # not a steady signal
+                if not steady:
                     edges = passband_edges(spectrum.speech_levels, noise=spectrum.noise_levels, reference="auto")
-                    spectrum = spectrum.within_passband(edges.low_hz, edges.high_hz)
-        return Measurements(lv, self.clipping.result(), act, spectrum, obw, edges, hum, self.hum.window_count, voice)
+                    fine = fine_edges(freqs, spectrum.speech_psd_fs2_per_hz, noise_psd,
+                                      effort_index=edges.effort_index, f0_low_hz=voice.f0_p5_hz,
+                                      f0_median_hz=voice.f0_median_hz)
+                    lo_hz = fine.low.hz if fine is not None else edges.low_hz
+                    hi_hz = fine.high.hz if fine is not None else edges.high_hz
+                    spectrum = spectrum.within_passband(lo_hz, hi_hz)
+            sii_speech, sii_noise, sii_why = self._sii_inputs(spectrum, sn, act, noise_psd)
+        tone_hz = [t.frequency_hz for t in tones]
+        comb = hum is not None and is_mains_comb(hum.harmonics_hz, hum.fundamental_hz, tone_hz,
+                                                 hum.harmonic_levels_dbfs)
+        if comb:  # the comb's own lines are hum, not separate tones
+            tones = tuple(t for t in tones if not any(abs(t.frequency_hz - h) < 1.0 for h in hum.harmonics_hz))
+        return Measurements(lv, self.clipping.result(), act, spectrum, obw, edges, hum, self.hum.window_count,
+                            voice, sn, fine, tones, comb, sii_speech, sii_noise, sii_why)
+
+    def _sii_inputs(self, spectrum, sn, act, noise_psd):
+        """Speech and noise band levels for the SII, or why there are none."""
+        from .bands import BandLevels
+        from .measurement.spectrum import band_powers
+        from .measurement.speech_noise import speech_band_power
+
+        if spectrum.speech_band_db is None:
+            return None, None, None
+        if act.noise_mode_dbfs is None:
+            return None, None, ("no pauses between words were found, so the noise under the speech "
+                                "cannot be told from the speech; the SII is not measurable from this recording")
+        if act.noise_mode_dbfs == -math.inf or noise_psd is None:
+            # Pauses of digital silence: no noise; the speech frames are the speech.
+            return spectrum.speech_levels, None, None
+        if sn.activity is None or sn.noise_power_fs2 is None:
+            return None, None, ("the speech does not stand clear of the noise, so its spectrum cannot be "
+                                "separated from the noise; the SII is not measurable from this recording")
+        bands = spectrum.speech_levels.bands
+        freqs = spectrum.freqs_hz
+        all_psd = self.spectrum.psd_of(np.ones(self.activity.counts.size, dtype=bool))
+        p_all = band_powers(all_psd, freqs, bands.lower_hz, bands.upper_hz)
+        p_noise = band_powers(noise_psd, freqs, bands.lower_hz, bands.upper_hz)
+        speech = speech_band_power(p_all, p_noise, sn.activity)
+        with np.errstate(divide="ignore"):
+            return (BandLevels(bands, 10.0 * np.log10(speech)),
+                    BandLevels(bands, 10.0 * np.log10(p_noise)), None)
 
 
 def measure_recording(x: np.ndarray, sample_rate_hz: float) -> Measurements:
@@ -312,18 +401,19 @@ def _combine(info: InputInfo, pipe: RecordingAccumulator, m: Optional[Measuremen
         m = pipe.result()
     levels = LevelsSection.of(m.levels)
     silent = levels.peak_dbfs is None
-    noise = NoiseSection.of(m.activity, m.hum, active_level_dbfs=levels.active_level_dbfs, silent=silent)
-    spectrum = SpectrumSection.of(m.spectrum, m.edges, m.occupied_bandwidth, silent=silent)
+    noise = NoiseSection.of(m.activity, m.hum if m.mains_comb else None, active_level_dbfs=levels.active_level_dbfs,
+                            silent=silent, speech_noise=m.speech_noise, tones=m.tones)
+    spectrum = SpectrumSection.of(m.spectrum, m.edges, m.occupied_bandwidth, silent=silent, fine=m.fine_edges)
     act = m.activity
     pauses_silent = (not silent and act.pause_frame_count > 0 and act.noise_floor_dbfs is not None
                      and act.noise_floor_dbfs == -math.inf)
-    intel = sii_error = None
-    s = m.spectrum
-    if s is not None and s.speech_band_db is not None and not silent:
+    intel = None
+    sii_error = None if silent else m.sii_unmeasurable
+    if m.sii_speech is not None and not silent:
         from .intelligibility import recording_intelligibility
 
         try:
-            intel = recording_intelligibility(s.speech_levels, s.noise_levels)
+            intel = recording_intelligibility(m.sii_speech, m.sii_noise)
         except ValueError as exc:
             sii_error = str(exc)
     clipping = ClippingSection.of(m.clipping, max_events=MAX_LISTED_CLIP_EVENTS)

@@ -87,6 +87,15 @@ FINDINGS: dict[str, tuple[Optional[str], str]] = {
     "no_band_limit_found": ("info",
         "The estimated response stays within 10 dB of its passband from {low_hz:g} to "
         "{high_hz:g} Hz: no band-limiting of the audio was found in that range."),
+    "edge_uncertain": ("info",
+        "The {side} edge is uncertain: the estimate is {hz}, but it lies somewhere between {low_hz:.0f} and "
+        "{high_hz:.0f} Hz ({reason})."),
+    "ctcss_tone": ("info",
+        "A CTCSS (sub-audible squelch) tone of {ctcss_hz:.1f} Hz is present at {level} relative to the speech; "
+        "it is not mains hum."),
+    "steady_tone": ("info",
+        "A steady tone at {frequency_hz:.1f} Hz is present at {level} relative to the speech "
+        "(a test tone, a tone squelch or an interfering carrier, not mains hum)."),
     "edges_unknown": ("info", "The passband edges could not be estimated from this recording's spectrum."),
     "f0_unknown": ("info", "No voiced speech was found, so the talker's fundamental frequency is not measurable."),
     "highpass_above_f0": ("info",
@@ -200,10 +209,28 @@ def findings_for(
             sev = "info"
         add("hum", sev, fundamental_hz=h.fundamental_hz, level_db=h.level_db_re_speech)
 
+    for t in noise.tones:
+        level = f"{t.level_db_re_speech:.1f} dB" if t.level_db_re_speech is not None else "an unknown level"
+        if t.kind == "ctcss" and t.ctcss_hz is not None:
+            add("ctcss_tone", ctcss_hz=t.ctcss_hz, level=level)
+        else:
+            add("steady_tone", frequency_hz=t.frequency_hz, level=level)
+
     e = spectrum.edges_hz
-    if e.high is not None and e.high < T["edge_high_low_hz"]:
+    reasons = {"noise": "the speech is hidden in noise beyond it", "talker": "below the talker's lowest fundamental "
+               "there is no speech to show the chain", "span": "the analysed span ends", None: "a gentle roll-off, "
+               "which a talker's own spectrum can mimic"}
+    for side, hz, rng, unc, lim in (("lower", e.low, e.low_range, e.low_uncertain, e.low_limited_by),
+                                    ("upper", e.high, e.high_range, e.high_uncertain, e.high_limited_by)):
+        if unc and rng is not None:
+            add("edge_uncertain", side=side, hz=f"{hz:.0f} Hz" if hz is not None else "beyond the analysed span",
+                low_hz=rng[0], high_hz=rng[1], reason=reasons.get(lim, reasons[None]))
+    # A low upper edge or a high lower edge is stated only when its whole range says so.
+    high_top = e.high_range[1] if (e.high_uncertain and e.high_range is not None) else e.high
+    low_bottom = e.low_range[0] if (e.low_uncertain and e.low_range is not None) else e.low
+    if e.high is not None and high_top is not None and high_top < T["edge_high_low_hz"]:
         add("upper_edge_low", high_hz=e.high)
-    if e.low is not None and e.low > T["edge_low_high_hz"]:
+    if e.low is not None and low_bottom is not None and low_bottom > T["edge_low_high_hz"]:
         add("lower_edge_high", low_hz=e.low)
     if e.low is None and e.high is None:
         if e.lowest_band_hz is not None and e.highest_band_hz is not None:

@@ -24,6 +24,8 @@ if TYPE_CHECKING:  # typing only: the report types do not load the measurement m
     from .measurement.levels import LevelsResult
     from .measurement.spectrum import SpectrumResult
     from .measurement.voice import VoiceResult
+    from .measurement.speech_noise import SpeechNoisePower
+    from .measurement.edges import Edge, FineEdges
 
 __all__ = [
     "InputInfo",
@@ -31,6 +33,7 @@ __all__ = [
     "ClipEventRecord",
     "ClippingSection",
     "HumRecord",
+    "ToneRecord",
     "NoiseSection",
     "EdgesRecord",
     "OccupiedBandwidthRecord",
@@ -142,24 +145,67 @@ class HumRecord:
 
 
 @dataclass(frozen=True)
+class ToneRecord:
+    """A steady tone: a CTCSS tone (``kind`` "ctcss", ``ctcss_hz`` the standard tone) or another
+    steady tone such as a test tone (``kind`` "tone")."""
+
+    frequency_hz: float
+    kind: str
+    ctcss_hz: Optional[float]
+    level_dbfs: Optional[float]
+    level_db_re_speech: Optional[float]
+
+
+#: What ``noise.snr_db`` means (the JSON says it beside the number).
+SNR_DEFINITION = ("active-speech SNR: ITU-T P.56 active level of the speech alone minus the noise level, "
+                  "both by power subtraction (speech frames' power minus the noise power measured in the pauses)")
+
+
+@dataclass(frozen=True)
 class NoiseSection:
     floor_dbfs: Optional[float]
     snr_db: Optional[float]
     hum: Optional[HumRecord]
     speech_fraction: Optional[float] = None
+    snr_definition: str = SNR_DEFINITION
+    speech_active_level_dbfs: Optional[float] = None
+    speech_activity_factor: Optional[float] = None
+    tones: tuple[ToneRecord, ...] = ()
 
     @classmethod
-    def of(cls, activity: ActivityResult, hum: Optional[HumResult], *, active_level_dbfs: Optional[float], silent: bool) -> "NoiseSection":
-        """From an :class:`~voiceband.measurement.activity.ActivityResult` and the hum found
-        (or ``None``); the SNR is the active speech level minus the noise floor."""
+    def of(cls, activity: ActivityResult, hum: Optional[HumResult], *, active_level_dbfs: Optional[float], silent: bool,
+           speech_noise: Optional[SpeechNoisePower] = None, tones: tuple = ()) -> "NoiseSection":
+        """From an :class:`~voiceband.measurement.activity.ActivityResult`, the mains hum (only
+        when a mains comb was measured, else ``None``), the power-subtraction measurement
+        (:class:`~voiceband.measurement.speech_noise.SpeechNoisePower`) and the steady tones.
+
+        The floor is the noise power of the power-subtraction measurement (the pause frames'
+        RMS when it has none); the SNR is its speech-alone active level minus that floor.
+        """
         from .measurement.activity import snr_db
 
-        floor = None if silent else finite(activity.noise_floor_dbfs)
+        if silent:
+            return cls(None, None, None, None)
+        sn = speech_noise
+        floor = finite(sn.noise_level_dbfs) if sn is not None and sn.noise_level_dbfs is not None else finite(activity.noise_floor_dbfs)
+        speech_level = finite(sn.active_level_dbfs) if sn is not None else None
+        if sn is not None and sn.snr_db is not None:
+            snr = finite(sn.snr_db)
+        else:
+            snr = finite(snr_db(active_level_dbfs, floor)) if floor is not None else None
+        ref = speech_level if speech_level is not None else active_level_dbfs
+        tone_records = tuple(
+            ToneRecord(float(t.frequency_hz), t.kind, t.ctcss_hz, finite(t.level_dbfs),
+                       finite(t.level_dbfs - ref) if ref is not None else None)
+            for t in tones)
         return cls(
             floor_dbfs=floor,
-            snr_db=finite(snr_db(active_level_dbfs, floor)) if floor is not None else None,
-            hum=HumRecord.of(hum) if hum is not None and not silent else None,
-            speech_fraction=None if silent else finite(activity.speech_fraction),
+            snr_db=snr,
+            hum=HumRecord.of(hum) if hum is not None else None,
+            speech_fraction=finite(activity.speech_fraction),
+            speech_active_level_dbfs=speech_level,
+            speech_activity_factor=finite(sn.activity) if sn is not None else None,
+            tones=tone_records,
         )
 
 
@@ -171,12 +217,44 @@ class EdgesRecord:
     method: str = ""
     lowest_band_hz: Optional[float] = None
     highest_band_hz: Optional[float] = None
+    #: [lower, upper] (Hz) that holds each edge given how far a talker departs from the reference.
+    low_range: Optional[tuple[float, float]] = None
+    high_range: Optional[tuple[float, float]] = None
+    low_uncertain: Optional[bool] = None
+    high_uncertain: Optional[bool] = None
+    #: Why a range is open: "noise" (hidden in noise), "talker" (below the talker's lowest F0), "span".
+    low_limited_by: Optional[str] = None
+    high_limited_by: Optional[str] = None
 
     @classmethod
-    def of(cls, e: Optional[PassbandEdges]) -> "EdgesRecord":
-        """From the :class:`~voiceband.measurement.bandwidth.PassbandEdges` estimate, or ``None`` (not estimated)."""
+    def of(cls, e: Optional[PassbandEdges], fine: Optional[FineEdges] = None) -> "EdgesRecord":
+        """From the fine-spectrum edges (:class:`~voiceband.measurement.edges.FineEdges`) when
+        there are some, else the band estimate (:class:`~voiceband.measurement.bandwidth.PassbandEdges`),
+        or ``None`` (not estimated)."""
         if e is None:
             return cls(None, None, -10.0, "not estimated (no speech spectrum with pauses found)")
+        if fine is not None:
+            def rng(edge: Edge):
+                if edge.range_hz is None:
+                    return None
+                return (float(edge.range_hz[0]), float(edge.range_hz[1]))
+
+            return cls(
+                low=finite(fine.low.hz),
+                high=finite(fine.high.hz),
+                criterion_db=-fine.drop_db,
+                method=(f"fine long-term spectrum (speech minus noise, 1/12 octave and half an F0 spacing) minus the "
+                        f"{fine.reference} reference speech spectrum with the talker's tilt removed; "
+                        f"{fine.drop_db:g} dB below the passband level; ranges from +/-8 dB of talker departure"),
+                lowest_band_hz=float(fine.span_hz[0]),
+                highest_band_hz=float(fine.span_hz[1]),
+                low_range=rng(fine.low),
+                high_range=rng(fine.high),
+                low_uncertain=not fine.low.certain,
+                high_uncertain=not fine.high.certain,
+                low_limited_by=fine.low.limited_by,
+                high_limited_by=fine.high.limited_by,
+            )
         return cls(
             low=finite(e.low_hz),
             high=finite(e.high_hz),
@@ -227,7 +305,8 @@ class SpectrumSection:
 
     @classmethod
     def of(
-        cls, s: Optional[SpectrumResult], edges: Optional[PassbandEdges], obw: Optional[OccupiedBandwidth], *, silent: bool
+        cls, s: Optional[SpectrumResult], edges: Optional[PassbandEdges], obw: Optional[OccupiedBandwidth], *, silent: bool,
+        fine: Optional[FineEdges] = None,
     ) -> "SpectrumSection":
         """From a :class:`~voiceband.measurement.spectrum.SpectrumResult` (or ``None`` when the
         recording is shorter than one frame), the passband edges and the occupied bandwidth;
@@ -248,7 +327,7 @@ class SpectrumSection:
             tilt_basis=("slope of one-third-octave band levels vs log2 f"
                         + (f" over {span[0]:.0f}–{span[1]:.0f} Hz" if span else "")
                         + "; a PSD slope reads 3.01 dB/octave lower"),
-            edges_hz=EdgesRecord.of(edges),
+            edges_hz=EdgesRecord.of(edges, fine),
             occupied_bandwidth=OccupiedBandwidthRecord.of(obw),
             vocal_effort_index=finite(edges.effort_index) if edges is not None else None,
         )

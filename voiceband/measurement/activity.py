@@ -44,6 +44,9 @@ __all__ = [
 LEVEL_MIN_DBFS = -160.0
 #: Width of a frame-level histogram bin (dB).
 LEVEL_BIN_DB = 1.0
+#: Speech frames in strong noise: at least this far above the noise mode (dB), used when
+#: fewer than 5 % of frames reach the speech margin (see classify_level_bins).
+LOW_SNR_MARGIN_DB = 5.0
 #: Number of histogram bins, -160 ... +20 dBFS (the top bin also holds anything louder).
 LEVEL_BIN_COUNT = 180
 
@@ -88,7 +91,10 @@ def classify_level_bins(
     2. pause frames are those within ``pause_margin_db`` (3 dB) above the noise mode;
     3. speech frames are those at least ``speech_margin_db`` (10 dB) above the noise mode;
        frames in between (syllable edges, weak sounds) belong to neither class;
-    4. when fewer than 5 % of frames lie ``speech_margin_db`` above the noise mode the level
+    4. when fewer than 5 % of frames lie ``speech_margin_db`` above the noise mode but at least
+       5 % lie :data:`LOW_SNR_MARGIN_DB` (5 dB) above it, this is speech in strong noise:
+       speech frames are then those 5 dB or more above the mode;
+    5. when fewer than 5 % of frames lie even that far above the noise mode the level
        never rises clearly above a floor: a steady signal (noise, a tone, continuous
        programme).  All frames are then taken as active and no noise floor is reported
        (digital silence throughout counts as all pause).
@@ -128,6 +134,14 @@ def classify_level_bins(
     # Most populated bin (3-bin running sum), among bins that hold frames.
     b_n = int(np.argmax(np.where(c[: hi + 1] > 0, smooth[: hi + 1], -1)))
     above = int(c[min(b_n + sm, nb) :].sum()) if b_n + sm < nb else 0
+    if above < 0.05 * total and b_n > 0:
+        # Speech in strong noise (SNR below about 10 dB) rises less than speech_margin_db over
+        # the noise; frames of 0.1 s of noise scatter by well under a dB, so frames
+        # LOW_SNR_MARGIN_DB above the mode are speech too.
+        lm = int(round(LOW_SNR_MARGIN_DB / LEVEL_BIN_DB))
+        if int(c[min(b_n + lm, nb):].sum()) >= 0.05 * total:
+            sm = lm
+            above = int(c[b_n + sm:].sum())
     if above < 0.05 * total:
         # Steady signal: no frames clearly above a floor.
         if int(c[0]) == total:
@@ -306,8 +320,8 @@ class ActivityAccumulator:
         self.mean_square_sums = np.zeros(LEVEL_BIN_COUNT)
 
     def update_frames(self, block):
-        """Add a block; return its new frames, their level bins, the first frame's index, and
-        the block as float32.
+        """Add a block; return its new frames, their level bins, the first frame's index, the
+        block as float32, and the frames' mean squares (DC excluded).
 
         ``frames`` (read-only) and the float32 block are views valid until the next call.
         Used by :class:`voiceband.analysis.RecordingAccumulator` to share the framing and
@@ -319,7 +333,7 @@ class ActivityAccumulator:
         if bins.size:
             self.counts += np.bincount(bins, minlength=LEVEL_BIN_COUNT)
             self.mean_square_sums += np.bincount(bins, weights=ms, minlength=LEVEL_BIN_COUNT)
-        return frames, bins, first, x32
+        return frames, bins, first, x32, ms
 
     def update(self, block) -> None:
         """Add the next block of samples (1-D, any length >= 1)."""

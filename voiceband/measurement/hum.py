@@ -447,6 +447,23 @@ class HumAccumulator:
             return None
         return self._decimate(self._buf[: self._buf_len], n_out)
 
+    def quiet_spectrum(self) -> Optional[tuple[np.ndarray, np.ndarray]]:
+        """``(freqs_hz, psd)`` of the quietest long windows (0.24 Hz resolution, up to about
+        600 Hz; full-scale units squared per Hz), or ``None`` before the first window.
+
+        Steady low tones (CTCSS) are read from it by :mod:`voiceband.measurement.tones`.
+        """
+        tail = self._tail_y()
+        path = self._paths[0]
+        hist, counts = path.hist, path.counts
+        if tail is not None:
+            hist, counts = hist.copy(), counts.copy()
+            path.add(tail, hist, counts)
+        psd, _ = path.quiet_psd(hist, counts)
+        if psd is None:
+            return None
+        return np.arange(psd.size) * path.df, psd
+
     def result(self, *, reference_level_dbfs: Optional[float] = None) -> Optional[HumResult]:
         """The hum found so far, or ``None`` if none was found (or no window is complete).
 

@@ -307,6 +307,21 @@ class LongTermSpectrumAccumulator:
             self._weight[b[s]] += float(w[s:e].sum())
             self._transformed[b[s]] += e - s
 
+    def psd_of(self, mask: np.ndarray) -> Optional[np.ndarray]:
+        """One-sided Welch PSD of the frames in the level bins ``mask`` (full-scale units
+        squared per Hz), or ``None`` without such frames."""
+        fs = self.sample_rate_hz
+        n = self.nfft
+        wsum = float(self._weight[mask].sum())
+        if wsum <= 0:
+            return None
+        scale = 2.0 / (fs * float(np.sum(self._win.astype(np.float64) ** 2)))
+        psd = self._hist[mask].sum(axis=0) * (scale / wsum)
+        psd[0] /= 2.0
+        if n % 2 == 0:
+            psd[-1] /= 2.0
+        return _ro(psd)
+
     def result(self, speech_bins: np.ndarray, pause_bins: np.ndarray) -> SpectrumResult:
         """The long-term spectra so far (does not change the accumulator).
 
@@ -322,20 +337,8 @@ class LongTermSpectrumAccumulator:
         fs = self.sample_rate_hz
         n = self.nfft
         freqs = np.arange(n // 2 + 1) * fs / n
-        scale = 2.0 / (fs * float(np.sum(self._win.astype(np.float64) ** 2)))
-
-        def class_psd(mask: np.ndarray) -> Optional[np.ndarray]:
-            wsum = float(self._weight[mask].sum())
-            if wsum <= 0:
-                return None
-            psd = self._hist[mask].sum(axis=0) * (scale / wsum)
-            psd[0] /= 2.0
-            if n % 2 == 0:
-                psd[-1] /= 2.0
-            return _ro(psd)
-
-        speech_psd = class_psd(speech_bins)
-        noise_psd = class_psd(pause_bins)
+        speech_psd = self.psd_of(speech_bins)
+        noise_psd = self.psd_of(pause_bins)
         bands = third_octave_bands(fs)
         speech_db = noise_db = None
         if speech_psd is not None:

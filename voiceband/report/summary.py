@@ -68,13 +68,16 @@ def analysis_rows(r: AnalysisResult) -> list[tuple[str, str, str, str]]:
         cnote = "clipped runs found"
     add("Clipping", "Clip events", str(cl.event_count), cnote)
     add("", "Clipped samples", f"{cl.clipped_samples} ({100 * cl.clipped_fraction:.3f} %)", "samples on the clip level")
-    add("Noise", "Noise floor", _f(nz.floor_dbfs, "dBFS"), "RMS in the pauses between words")
-    add("", "SNR", _f(nz.snr_db, "dB"), "active speech level − noise floor")
+    add("Noise", "Noise floor", _f(nz.floor_dbfs, "dBFS"), "noise level in the pauses between words")
+    add("", "SNR", _f(nz.snr_db, "dB"), "active level of the speech alone − noise floor (power subtraction)")
     if nz.hum is None:
         add("", "Mains hum", "none", "no 50/60 Hz comb above the noise")
     else:
         add("", f"Mains hum ({nz.hum.fundamental_hz:.1f} Hz)", _f(nz.hum.level_db_re_speech, "dB"),
             "hum level re active speech level")
+    for t in nz.tones:
+        what = f"CTCSS {t.ctcss_hz:.1f} Hz" if t.kind == "ctcss" and t.ctcss_hz is not None else f"tone {t.frequency_hz:.1f} Hz"
+        add("", f"Steady {what}", _f(t.level_db_re_speech, "dB"), "level re speech; not mains hum")
     edges = sp.edges_hz
     # An edge is None where the estimate stays within 10 dB of the passband down to (up to) the
     # lowest (highest) band that holds speech: it lies beyond that band.
@@ -82,8 +85,17 @@ def analysis_rows(r: AnalysisResult) -> list[tuple[str, str, str, str]]:
         f"below {edges.lowest_band_hz:g}" if edges.lowest_band_hz else NOT_MEASURED)
     high = _f(edges.high, "", 0) if edges.high is not None else (
         f"above {edges.highest_band_hz:g}" if edges.highest_band_hz else NOT_MEASURED)
+
+    def _edge_range(rng, unc):
+        if rng is None:
+            return ""
+        return f"{'uncertain, ' if unc else ''}{rng[0]:.0f}–{rng[1]:.0f} Hz"
+
+    ranges = "; ".join(f"{side} {_edge_range(rng, unc)}" for side, rng, unc in
+                       (("low", edges.low_range, edges.low_uncertain), ("high", edges.high_range, edges.high_uncertain))
+                       if rng is not None)
     add("Spectrum", "Passband (−10 dB)", NOT_MEASURED if low == high == NOT_MEASURED else f"{low} – {high} Hz",
-        "chain response estimated from the speech")
+        "chain response estimated from the speech" + (f" ({ranges})" if ranges else ""))
     ob = sp.occupied_bandwidth
     add("", f"Occupied bandwidth ({100 * ob.fraction:g} %)", _f(ob.width_hz, "Hz", 0),
         f"{_range(ob.low_hz, ob.high_hz)} (ITU-R SM.328)")
