@@ -459,7 +459,7 @@ class HumAccumulator:
         if tail is not None:
             hist, counts = hist.copy(), counts.copy()
             path.add(tail, hist, counts)
-        psd, _ = path.quiet_psd(hist, counts)
+        psd, _, _ = path.quiet_psd(hist, counts)
         if psd is None:
             return None
         return np.arange(psd.size) * path.df, psd
