@@ -58,3 +58,20 @@ def test_bad_input_is_one_sentence_and_exit_2(files, command, args, words):
     assert len(lines) == 1 and lines[0].startswith("voiceband: "), res.output
     assert words in lines[0]
     assert "Traceback" not in res.output
+
+
+def test_device_and_pipe_are_refused_not_read_forever(tmp_path):
+    # /dev/zero never ends (Linux character device); a FIFO inside a folder is skipped (common practice:
+    # batch tools take regular files only).
+    import os as _os
+
+    from voiceband.batch.discover import discover_files
+    from voiceband.errors import AudioInputError
+
+    with pytest.raises(AudioInputError, match="not a regular file"):
+        discover_files(["/dev/zero"])
+    d = tmp_path / "in"
+    d.mkdir()
+    _os.mkfifo(d / "pipe.wav")
+    (d / "real.wav").write_bytes(b"RIFF")
+    assert [p.name for p in discover_files([d])] == ["real.wav"]

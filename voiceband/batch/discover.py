@@ -39,7 +39,7 @@ def discover_files(paths: Iterable[os.PathLike | str], *, pattern: Optional[str]
     Raises
     ------
     AudioInputError
-        A path does not exist.
+        A path does not exist, or names a device, pipe or socket.
     """
     seen: set[str] = set()
     out: list[Path] = []
@@ -63,7 +63,12 @@ def discover_files(paths: Iterable[os.PathLike | str], *, pattern: Optional[str]
                             continue
                     elif Path(name).suffix.lower() not in AUDIO_SUFFIXES:
                         continue
-                    add(Path(root) / name)
+                    if (Path(root) / name).is_file():  # a pipe or device with an audio name is not a recording
+                        add(Path(root) / name)
+        elif p.exists() and not p.is_file():
+            # A device such as /dev/zero would be read (and hashed) for ever; a pipe or socket cannot be re-read.
+            raise AudioInputError(
+                f"'{p}' is not a regular file (a device, pipe or socket); batch reads recordings from files and folders.")
         elif p.exists() or p.is_symlink():
             add(p)
         else:
