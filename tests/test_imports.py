@@ -29,3 +29,20 @@ def test_cli_help_runs():
 def test_cli_version():
     out = subprocess.run([sys.executable, "-m", "voiceband.cli.main", "--version"], capture_output=True, text=True)
     assert out.returncode == 0 and out.stdout.strip() == f"voiceband {voiceband.__version__}"
+
+
+def test_analyze_path_does_not_import_scipy(tmp_path):
+    # Issue 13: a short file must not pay for start-up it does not use; importing scipy.fft
+    # alone costs about 0.6 s here (its array-API layer walks numpy's namespace).
+    import numpy as np
+    import soundfile as sf
+
+    path = tmp_path / "tone.wav"
+    t = np.arange(48000) / 48000.0
+    sf.write(str(path), 0.3 * np.sin(2 * np.pi * 440.0 * t), 48000, subtype="PCM_16")
+    code = (
+        "import sys; from voiceband.analysis import analyze_file; analyze_file(sys.argv[1]); "
+        "print(','.join(sorted(m for m in sys.modules if m == 'scipy' or m.startswith('scipy.'))))"
+    )
+    out = subprocess.run([sys.executable, "-c", code, str(path)], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == ""

@@ -187,9 +187,7 @@ class _HumWindows:
             y, shape=(nw, n), strides=(hop * y.itemsize, y.itemsize), writeable=False
         )
         ms = np.einsum("ij,ij->i", frames, frames).astype(np.float64) / n
-        from scipy.fft import rfft
-
-        pw = np.abs(rfft(frames * self.win, axis=1)[:, : self.nbins]).astype(np.float64)
+        pw = np.abs(np.fft.rfft(frames * self.win, axis=1)[:, : self.nbins]).astype(np.float64)
         pw *= pw
         return level_bins(ms), pw
 

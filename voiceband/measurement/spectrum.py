@@ -286,15 +286,13 @@ class LongTermSpectrumAccumulator:
         sel = np.flatnonzero(idx % stride == 0)
         if sel.size == 0:
             return
-        from scipy.fft import rfft
-
         # Frames in level-bin order, so each bin's spectra are one contiguous run.
         sel = sel[np.argsort(bins[sel], kind="stable")]
         b = bins[sel]
         w = stride[sel]
         fr = frames[sel]
         fr *= self._win
-        pw = np.abs(rfft(fr, axis=1, overwrite_x=True))
+        pw = np.abs(np.fft.rfft(fr, axis=1))
         pw *= pw
         starts = np.flatnonzero(np.r_[True, b[1:] != b[:-1]])
         ends = np.r_[starts[1:], b.size]

@@ -218,8 +218,6 @@ class TimelineAccumulator:
             i += take
 
     def _feed_spectra(self, c: np.ndarray, peak: np.ndarray) -> None:
-        from scipy.fft import rfft
-
         cols, i, m = self._spec, 0, c.shape[0]
         while i < m:
             take = min(cols.room(), m - i)
@@ -228,7 +226,7 @@ class TimelineAccumulator:
             sel = np.flatnonzero(idx % stride == 0) + i
             if sel.size:
                 fr = c[sel] - c[sel].mean(axis=1, keepdims=True)
-                pw = np.abs(rfft(fr * self._win, axis=1)) ** 2
+                pw = np.abs(np.fft.rfft(fr * self._win, axis=1)) ** 2
                 total = pw.sum(axis=0)
             else:
                 total = np.zeros(self.chunk // 2 + 1)

@@ -124,6 +124,27 @@ def _frames(rows: np.ndarray, length: int, hop: int) -> np.ndarray:
     )
 
 
+def _next_fast_len(n: int) -> int:
+    """Smallest 2-3-5-smooth integer >= ``n``: a length pocketfft transforms quickly.
+
+    The same rule as ``scipy.fft.next_fast_len(n, real=True)`` (a test compares them);
+    written here so the analyze path need not import :mod:`scipy.fft` (about 0.6 s of
+    start-up, mostly scipy's array-API layer).
+    """
+    best = 1 << max(0, (int(n) - 1).bit_length())
+    p5 = 1
+    while p5 < best:
+        p35 = p5
+        while p35 < best:
+            # smallest power of two taking p35 to at least n
+            q = -(-int(n) // p35)
+            p2 = 1 << max(0, (q - 1).bit_length())
+            best = min(best, p35 * p2)
+            p35 *= 3
+        p5 *= 5
+    return best
+
+
 def _cmnd(frames: np.ndarray, w: int, tau_max: int) -> tuple[np.ndarray, np.ndarray]:
     """YIN cumulative-mean-normalised difference of each frame (eqs. 6-8).
 
@@ -132,13 +153,13 @@ def _cmnd(frames: np.ndarray, w: int, tau_max: int) -> tuple[np.ndarray, np.ndar
     (YIN eq. 7) with the cross term by FFT: lags up to ``tau_max`` with the first ``w``
     samples need no more than ``len(frame)`` points (no circular wrap).
     """
-    from scipy.fft import irfft, next_fast_len, rfft
-
     n, length = frames.shape
-    nfft = next_fast_len(length, real=True)
+    nfft = _next_fast_len(length)
     # Cross term in the frames' own precision (float32 from the reservoir); energies,
     # whose differences matter near a dip, are accumulated in float64.
-    r = irfft(np.conj(rfft(frames[:, :w], nfft, axis=1)) * rfft(frames, nfft, axis=1), nfft, axis=1)
+    r = np.fft.irfft(
+        np.conj(np.fft.rfft(frames[:, :w], nfft, axis=1)) * np.fft.rfft(frames, nfft, axis=1), nfft, axis=1
+    )
     sq = np.empty((n, length + 1))
     sq[:, 0] = 0.0
     np.cumsum(np.square(frames, dtype=np.float64), axis=1, out=sq[:, 1:])
@@ -394,13 +415,11 @@ def _analysis_band(chunks: np.ndarray, sample_rate_hz: float) -> tuple[np.ndarra
     Returns the filtered chunks (C, m) and their sample rate ``m * fs / L`` (Hz).  The
     chunks are treated as periodic (one FFT each).
     """
-    from scipy.fft import irfft, rfft
-
     fs = sample_rate_hz
     length = chunks.shape[1]
     m = length if fs <= _F0_RATE_HZ else int(math.ceil(length * _F0_RATE_HZ / fs))
     rate = m * fs / length
-    spec = rfft(chunks, axis=1)[:, : m // 2 + 1]
+    spec = np.fft.rfft(chunks, axis=1)[:, : m // 2 + 1]
     df = fs / length
     f = np.arange(spec.shape[1]) * df
     gain = np.zeros(f.size)
@@ -424,7 +443,7 @@ def _analysis_band(chunks: np.ndarray, sample_rate_hz: float) -> tuple[np.ndarra
             near = u < 1.0
             gain[near] *= np.sin(0.5 * np.pi * u[near]) ** 2
     spec *= gain
-    out = irfft(spec, m, axis=1)
+    out = np.fft.irfft(spec, m, axis=1)
     out *= m / length
     return out, rate
 
