@@ -151,3 +151,30 @@ def test_mp3_is_read(tmp_path):
     # a lossy codec keeps the level of a steady tone: RMS within 0.2 dB of 0.3/sqrt(2) (common practice)
     rms = np.sqrt(np.mean(y[4800:-4800] ** 2))
     assert 20 * np.log10(rms / (0.3 / np.sqrt(2))) == pytest.approx(0.0, abs=0.2)
+
+
+def test_bounded_subtypes_decode_within_full_scale(tmp_path):
+    # Reference: libsndfile (through soundfile) decoding its own integer and companded codes:
+    # every subtype voiceband treats as bounded must read back finite and within ±1.0 even
+    # when written from samples far beyond full scale.
+    import numpy as np
+    import soundfile as sf
+
+    from voiceband.audio import is_bounded_subtype
+
+    x = np.array([0.0, 3.0, -3.0, 1.0, -1.0, 0.5] * 100)
+    checked = 0
+    for fmt in ("WAV", "FLAC", "AIFF"):
+        for subtype in sf.available_subtypes(fmt):
+            if not is_bounded_subtype(subtype):
+                continue
+            path = tmp_path / f"x_{fmt}_{subtype}.{fmt.lower()}"
+            try:
+                sf.write(str(path), x, 8000, format=fmt, subtype=subtype)
+            except (RuntimeError, ValueError, TypeError):
+                continue  # a pairing libsndfile does not write
+            y, _ = sf.read(str(path), dtype="float64")
+            assert np.all(np.isfinite(y)) and np.max(np.abs(y)) <= 1.0, (fmt, subtype)
+            checked += 1
+    assert checked >= 6
+    assert not is_bounded_subtype("FLOAT") and not is_bounded_subtype("DOUBLE")

@@ -239,6 +239,16 @@ def _select(data: np.ndarray, channel: Channel) -> np.ndarray:
 _INTEGER_READS = {"PCM_16": ("int16", 2.0 ** -15), "PCM_24": ("int32", 2.0 ** -31), "PCM_32": ("int32", 2.0 ** -31)}
 
 
+def is_bounded_subtype(subtype: str) -> bool:
+    """Whether a file's samples are integer codes, so decoded they lie within ±1.0 (full scale).
+
+    Integer PCM (8-32 bit) and the A-law/mu-law companded codes cannot hold a NaN, an infinity
+    or a sample beyond full scale, so the per-block scale check can be left out for them.
+    """
+    s = str(subtype).upper()
+    return s.startswith("PCM_") or s in ("ALAW", "ULAW")
+
+
 def blocks(
     path: Union[str, os.PathLike],
     *,

@@ -11,7 +11,10 @@ import importlib
 
 import typer
 
+from .coercion import install as _install_plain_coercion
 from .usage import VoicebandGroup
+
+_install_plain_coercion()  # text and file-name options without loading pydantic (start-up)
 
 app = typer.Typer(
     name="voiceband",
