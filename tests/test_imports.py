@@ -46,3 +46,23 @@ def test_analyze_path_does_not_import_scipy(tmp_path):
     )
     out = subprocess.run([sys.executable, "-c", code, str(path)], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == ""
+
+
+
+def test_response_path_does_not_import_scipy(tmp_path):
+    # Issue 13: `response` spent about 0.6 s of a 2-3 s run importing scipy.fft; its
+    # transforms are numpy's (voiceband.fastlen gives the lengths).
+    sweep = tmp_path / "s.wav"
+    subprocess.run([sys.executable, "-m", "voiceband.cli.main", "testsignal", "sweep", "--out", str(sweep),
+                    "--duration-s", "2"], check=True, capture_output=True)
+    code = (
+        "import sys\n"
+        "from voiceband.cli.main import main\n"
+        "sys.argv = ['voiceband', 'response', sys.argv[1], sys.argv[1], '--json', sys.argv[2]]\n"
+        "try:\n    main()\nexcept SystemExit:\n    pass\n"
+        "print('SCIPY:' + ','.join(sorted(m for m in sys.modules if m == 'scipy' or m.startswith('scipy.'))))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code, str(sweep), str(tmp_path / "r.json")],
+                         capture_output=True, text=True)
+    assert (tmp_path / "r.json").exists(), out.stderr
+    assert out.stdout.strip().splitlines()[-1] == "SCIPY:", out.stdout[-300:]

@@ -307,12 +307,3 @@ def test_f0_does_not_depend_on_sample_rate(fs):
     assert res.f0_median_hz == pytest.approx(ref50, rel=0.05)
     assert res.f0_median_hz == pytest.approx(ours16, rel=0.02)
 
-
-def test_next_fast_len_matches_scipy():
-    # Reference: scipy.fft.next_fast_len(n, real=True), the 2-3-5-smooth rule of pocketfft.
-    import scipy.fft
-
-    from voiceband.measurement.voice import _next_fast_len
-
-    for n in list(range(1, 5000)) + [65537, 100001, 1 << 20, (1 << 20) + 1]:
-        assert _next_fast_len(n) == scipy.fft.next_fast_len(n, real=True), n

@@ -21,6 +21,7 @@ from typing import Optional
 import numpy as np
 
 from .. import validate
+from ..fastlen import next_fast_len
 from ..errors import MeasurementError
 from .hum import block_as_stored, steady_mains_lines, subtract_line
 
@@ -124,27 +125,6 @@ def _frames(rows: np.ndarray, length: int, hop: int) -> np.ndarray:
     )
 
 
-def _next_fast_len(n: int) -> int:
-    """Smallest 2-3-5-smooth integer >= ``n``: a length pocketfft transforms quickly.
-
-    The same rule as ``scipy.fft.next_fast_len(n, real=True)`` (a test compares them);
-    written here so the analyze path need not import :mod:`scipy.fft` (about 0.6 s of
-    start-up, mostly scipy's array-API layer).
-    """
-    best = 1 << max(0, (int(n) - 1).bit_length())
-    p5 = 1
-    while p5 < best:
-        p35 = p5
-        while p35 < best:
-            # smallest power of two taking p35 to at least n
-            q = -(-int(n) // p35)
-            p2 = 1 << max(0, (q - 1).bit_length())
-            best = min(best, p35 * p2)
-            p35 *= 3
-        p5 *= 5
-    return best
-
-
 def _cmnd(frames: np.ndarray, w: int, tau_max: int) -> tuple[np.ndarray, np.ndarray]:
     """YIN cumulative-mean-normalised difference of each frame (eqs. 6-8).
 
@@ -154,7 +134,7 @@ def _cmnd(frames: np.ndarray, w: int, tau_max: int) -> tuple[np.ndarray, np.ndar
     samples need no more than ``len(frame)`` points (no circular wrap).
     """
     n, length = frames.shape
-    nfft = _next_fast_len(length)
+    nfft = next_fast_len(length, real=True)
     # Cross term in the frames' own precision (float32 from the reservoir); energies,
     # whose differences matter near a dip, are accumulated in float64.
     r = np.fft.irfft(

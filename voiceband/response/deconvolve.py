@@ -132,9 +132,9 @@ class SeparatedResponses:
 
 
 def _next_fast(n: int) -> int:
-    from scipy.fft import next_fast_len
+    from ..fastlen import next_fast_len
 
-    return int(next_fast_len(int(n), real=True))
+    return next_fast_len(int(n), real=True)
 
 
 def deconvolve(
@@ -166,14 +166,12 @@ def deconvolve(
     MeasurementError
         The stimulus has no energy in ``band_hz``.
     """
-    from scipy import fft as sfft
-
     fs = int(sample_rate_hz)
     y = np.asarray(recording, dtype=np.float64)
     x = np.asarray(stimulus, dtype=np.float64)
     n = _next_fast(y.size + x.size)
-    X = sfft.rfft(x, n)
-    Y = sfft.rfft(y, n)
+    X = np.fft.rfft(x, n)
+    Y = np.fft.rfft(y, n)
     px = X.real**2 + X.imag**2
     f = np.arange(px.size) * fs / n
     lo, hi = float(band_hz[0]), float(band_hz[1])
@@ -199,12 +197,12 @@ def deconvolve(
     gain = px / (px + eps)
     grid_hz, limit = _coarse_minimum_phase(gain, fs)
     phase = np.interp(f, grid_hz, np.unwrap(np.angle(limit)))
-    h = sfft.irfft(Y * np.conj(X) / (px + eps) * np.exp(1j * phase), n)
+    h = np.fft.irfft(Y * np.conj(X) / (px + eps) * np.exp(1j * phase), n)
     h.setflags(write=False)
     px.setflags(write=False)
     limit.setflags(write=False)
     grid_hz.setflags(write=False)
-    limit_ir = sfft.irfft(limit, 2 * (limit.size - 1))
+    limit_ir = np.fft.irfft(limit, 2 * (limit.size - 1))
     return Deconvolution(
         impulse_response=h,
         sample_rate_hz=fs,
@@ -232,21 +230,19 @@ def _coarse_minimum_phase(gain: np.ndarray, fs: int) -> tuple[np.ndarray, np.nda
     A. V. Oppenheim and R. W. Schafer, *Discrete-Time Signal Processing*, 3rd ed., section 13.8
     (homomorphic minimum-phase construction; from memory).
     """
-    from scipy import fft as sfft
-
     m = _COARSE_N // 2 + 1
     lg = np.log(np.maximum(gain, 1e-9))
     edges = np.linspace(0, gain.size, m + 1).round().astype(np.int64)  # non-decreasing
     sums = np.add.reduceat(lg, np.minimum(edges[:-1], gain.size - 1))
     counts = np.maximum(np.diff(edges), 1)
     coarse = np.where(np.diff(edges) > 0, sums / counts, lg[np.minimum(edges[:-1], gain.size - 1)])
-    c = sfft.irfft(coarse, _COARSE_N)
+    c = np.fft.irfft(coarse, _COARSE_N)
     fold = np.zeros(_COARSE_N)
     fold[0] = c[0]
     fold[1:_COARSE_N // 2] = 2.0 * c[1:_COARSE_N // 2]
     fold[_COARSE_N // 2] = c[_COARSE_N // 2]
     grid = np.linspace(0.0, fs / 2.0, m)
-    return grid, np.exp(sfft.rfft(fold, _COARSE_N))
+    return grid, np.exp(np.fft.rfft(fold, _COARSE_N))
 
 
 def band_limit_response(deconvolution: Deconvolution, frequencies_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

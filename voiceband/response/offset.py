@@ -126,7 +126,7 @@ def shift_frequency(x: np.ndarray, shift_hz: float, sample_rate_hz: int) -> np.n
 
     Re{x_a(t)·e^{j2π·shift·t}} with x_a the analytic signal (:func:`.signaltools.analytic_signal`).
     """
-    from scipy.fft import next_fast_len
+    from ..fastlen import next_fast_len
 
     from .signaltools import analytic_signal
 
@@ -345,7 +345,7 @@ def sweep_offset(
     MeasurementError
         Fewer than ten blocks lie in the passband.
     """
-    from scipy.fft import next_fast_len
+    from ..fastlen import next_fast_len
 
     from .signaltools import analytic_signal
 

@@ -30,7 +30,7 @@ def analytic_signal(x, n: Optional[int] = None) -> np.ndarray:
     The spectrum's positive-frequency bins are doubled and the negative ones zeroed (DC and,
     for even ``n``, the Nyquist bin kept), then transformed back (Marple 1999).
     """
-    from scipy.fft import fft, ifft
+    from numpy.fft import fft, ifft
 
     x = np.asarray(x, dtype=np.float64)
     n = x.size if n is None else int(n)
@@ -56,7 +56,7 @@ def welch_psd(x, sample_rate_hz: float, *, segment_length: int) -> tuple[np.ndar
     periodic Hann window, ``|X|^2 / (fs * sum(w^2))``, doubled except at DC (and Nyquist for an
     even length), averaged over the segments.  ``x`` must hold at least one segment.
     """
-    from scipy.fft import rfft, rfftfreq
+    from numpy.fft import rfft, rfftfreq
 
     x = np.asarray(x, dtype=np.float64)
     n = int(segment_length)
