@@ -119,6 +119,24 @@ def test_deconvolution_recovers_a_pure_delay_and_gain(sweep16):
         assert w.origin_lag == 123 - round(sweep16.rate_constant_s * np.log(w.order) * FS)
 
 
+def test_a_reused_stimulus_inverse_gives_the_same_deconvolution(sweep16):
+    # Reference: a fresh deconvolution (the inverse is built from the stimulus alone, so
+    # reusing it for a second recording of the same length must not change the result).
+    x = np.asarray(sweep16.sweep)
+    band = (sweep16.start_hz, sweep16.stop_hz)
+    y1 = 0.5 * np.concatenate([np.zeros(123), x, np.zeros(4000)])
+    y2 = np.concatenate([np.zeros(50), -0.25 * x, np.zeros(4073)])
+    d1 = deconvolve(y1, x, sample_rate_hz=FS, band_hz=band)
+    fresh = deconvolve(y2, x, sample_rate_hz=FS, band_hz=band)
+    reused = deconvolve(y2, x, sample_rate_hz=FS, band_hz=band, inverse=d1.inverse)
+    assert reused.inverse is d1.inverse
+    scale = np.max(np.abs(fresh.impulse_response))
+    assert np.max(np.abs(reused.impulse_response - fresh.impulse_response)) < 1e-12 * scale
+    # an inverse built for another grid is not used
+    other = deconvolve(y2[:-1000], x, sample_rate_hz=FS, band_hz=band, inverse=d1.inverse)
+    assert other.inverse is not d1.inverse and other.n_fft != d1.n_fft
+
+
 # --------------------------------------------------------------------------- known filters
 
 

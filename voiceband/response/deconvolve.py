@@ -30,6 +30,7 @@ module's choice.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Optional
 
 import numpy as np
 
@@ -76,6 +77,8 @@ class Deconvolution:
         chain's response peak is found this much later.
     recording_length : int
         Samples of the recording excerpt that was deconvolved.
+    inverse : StimulusInverse or None
+        The stimulus's inverse used, for deconvolving another recording of the same stimulus.
     """
 
     impulse_response: np.ndarray
@@ -86,6 +89,7 @@ class Deconvolution:
     band_limit: np.ndarray
     band_limit_peak_lag: int
     recording_length: int
+    inverse: Optional["StimulusInverse"] = None
 
 
 @dataclass(frozen=True)
@@ -137,29 +141,40 @@ def _next_fast(n: int) -> int:
     return next_fast_len(int(n), real=True)
 
 
-def deconvolve(
-    recording: np.ndarray,
-    stimulus: np.ndarray,
-    *,
-    sample_rate_hz: int,
-    band_hz: tuple[float, float],
-) -> Deconvolution:
-    """Deconvolve a recorded sweep by the stimulus sweep (regularised spectral division).
+@dataclass(frozen=True)
+class StimulusInverse:
+    """The regularised inverse of one stimulus sweep on one FFT grid (see :func:`deconvolve`).
 
-    Parameters
+    Everything in a deconvolution that depends on the stimulus alone: a recording and the
+    stimulus itself (the method's own floor) are deconvolved with the same inverse, so it is
+    built once.
+
+    Attributes
     ----------
-    recording : numpy.ndarray
-        1-D, on the stimulus's clock and sample rate.
-    stimulus : numpy.ndarray
-        1-D, the sweep (fades included, markers excluded).
+    n_fft : int
+    stimulus_length : int
     sample_rate_hz : int
     band_hz : (float, float)
-        The sweep's band; outside it ε rises to the in-band median stimulus power, over
-        one octave below it and 1/12 octave above it.
+    inverse : numpy.ndarray
+        ``conj(X)·L / (|X|² + ε)`` on the rfft grid, ``L`` the minimum-phase band limit's phase.
+    stimulus_power, band_limit_hz, band_limit, band_limit_peak_lag
+        As in :class:`Deconvolution`.
+    """
 
-    Returns
-    -------
-    Deconvolution
+    n_fft: int
+    stimulus_length: int
+    sample_rate_hz: int
+    band_hz: tuple[float, float]
+    inverse: np.ndarray
+    stimulus_power: np.ndarray
+    band_limit_hz: np.ndarray
+    band_limit: np.ndarray
+    band_limit_peak_lag: int
+
+
+def stimulus_inverse(stimulus: np.ndarray, *, n_fft: int, sample_rate_hz: int,
+                     band_hz: tuple[float, float]) -> StimulusInverse:
+    """The regularised inverse of ``stimulus`` on an ``n_fft``-point grid (see :func:`deconvolve`).
 
     Raises
     ------
@@ -167,11 +182,9 @@ def deconvolve(
         The stimulus has no energy in ``band_hz``.
     """
     fs = int(sample_rate_hz)
-    y = np.asarray(recording, dtype=np.float64)
     x = np.asarray(stimulus, dtype=np.float64)
-    n = _next_fast(y.size + x.size)
+    n = int(n_fft)
     X = np.fft.rfft(x, n)
-    Y = np.fft.rfft(y, n)
     px = X.real**2 + X.imag**2
     f = np.arange(px.size) * fs / n
     lo, hi = float(band_hz[0]), float(band_hz[1])
@@ -197,21 +210,76 @@ def deconvolve(
     gain = px / (px + eps)
     grid_hz, limit = _coarse_minimum_phase(gain, fs)
     phase = np.interp(f, grid_hz, np.unwrap(np.angle(limit)))
-    h = np.fft.irfft(Y * np.conj(X) / (px + eps) * np.exp(1j * phase), n)
-    h.setflags(write=False)
-    px.setflags(write=False)
-    limit.setflags(write=False)
-    grid_hz.setflags(write=False)
+    inverse = np.conj(X) / (px + eps) * np.exp(1j * phase)
+    for a in (inverse, px, limit, grid_hz):
+        a.setflags(write=False)
     limit_ir = np.fft.irfft(limit, 2 * (limit.size - 1))
-    return Deconvolution(
-        impulse_response=h,
-        sample_rate_hz=fs,
+    return StimulusInverse(
         n_fft=n,
+        stimulus_length=int(x.size),
+        sample_rate_hz=fs,
+        band_hz=(lo, hi),
+        inverse=inverse,
         stimulus_power=px,
         band_limit_hz=grid_hz,
         band_limit=limit,
         band_limit_peak_lag=int(np.argmax(np.abs(limit_ir[: limit.size // 2]))),
+    )
+
+
+def deconvolve(
+    recording: np.ndarray,
+    stimulus: np.ndarray,
+    *,
+    sample_rate_hz: int,
+    band_hz: tuple[float, float],
+    inverse: Optional[StimulusInverse] = None,
+) -> Deconvolution:
+    """Deconvolve a recorded sweep by the stimulus sweep (regularised spectral division).
+
+    Parameters
+    ----------
+    recording : numpy.ndarray
+        1-D, on the stimulus's clock and sample rate.
+    stimulus : numpy.ndarray
+        1-D, the sweep (fades included, markers excluded).
+    sample_rate_hz : int
+    band_hz : (float, float)
+        The sweep's band; outside it ε rises to the in-band median stimulus power, over
+        one octave below it and 1/12 octave above it.
+    inverse : StimulusInverse, optional
+        The stimulus's inverse from an earlier call (``Deconvolution.inverse``); used when it
+        was built for the same stimulus length, grid, rate and band, else built again.
+
+    Returns
+    -------
+    Deconvolution
+
+    Raises
+    ------
+    MeasurementError
+        The stimulus has no energy in ``band_hz``.
+    """
+    fs = int(sample_rate_hz)
+    y = np.asarray(recording, dtype=np.float64)
+    x = np.asarray(stimulus, dtype=np.float64)
+    n = _next_fast(y.size + x.size)
+    band = (float(band_hz[0]), float(band_hz[1]))
+    if inverse is None or (inverse.n_fft, inverse.stimulus_length, inverse.sample_rate_hz, inverse.band_hz) != (
+            n, x.size, fs, band):
+        inverse = stimulus_inverse(x, n_fft=n, sample_rate_hz=fs, band_hz=band)
+    h = np.fft.irfft(np.fft.rfft(y, n) * inverse.inverse, n)
+    h.setflags(write=False)
+    return Deconvolution(
+        impulse_response=h,
+        sample_rate_hz=fs,
+        n_fft=n,
+        stimulus_power=inverse.stimulus_power,
+        band_limit_hz=inverse.band_limit_hz,
+        band_limit=inverse.band_limit,
+        band_limit_peak_lag=inverse.band_limit_peak_lag,
         recording_length=int(y.size),
+        inverse=inverse,
     )
 
 

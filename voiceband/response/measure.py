@@ -366,7 +366,8 @@ def _measure_sweep(x, fs, y1, fs_rec, ana: StimulusAnalysis, max_offset_hz: floa
     inpass = (freqs >= lo) & (freqs <= hi) & np.isfinite(mag)
     levels = np.full((len(HARMONIC_ORDERS), freqs.size), np.nan)
     # The method's own floor: the same analysis of the stimulus through a perfect chain (itself).
-    ideal = deconvolve(_take(x, xs_start, xs.size + tail), xs, sample_rate_hz=fs, band_hz=(sw.start_hz, sw.stop_hz))
+    ideal = deconvolve(_take(x, xs_start, xs.size + tail), xs, sample_rate_hz=fs, band_hz=(sw.start_hz, sw.stop_hz),
+                       inverse=dec.inverse)
     isep = separate_harmonics(ideal, rate_constant_s=lc, peak_search_lags=search, orders=HARMONIC_ORDERS,
                               post_s=ir_window_s)
     ih1_pow = np.abs(window_response(isep.linear, freqs, fs) / band_limit_response(ideal, freqs)[0]) ** 2
