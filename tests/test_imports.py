@@ -66,3 +66,17 @@ def test_response_path_does_not_import_scipy(tmp_path):
                          capture_output=True, text=True)
     assert (tmp_path / "r.json").exists(), out.stderr
     assert out.stdout.strip().splitlines()[-1] == "SCIPY:", out.stdout[-300:]
+
+
+def test_a_command_loads_only_its_own_command_module(tmp_path):
+    # Issue 13 (start-up): main() builds only the command named on the command line.
+    code = (
+        "import sys\n"
+        "from voiceband.cli.main import main\n"
+        "sys.argv = ['voiceband', 'analyze', '--help']\n"
+        "try:\n    main()\nexcept SystemExit:\n    pass\n"
+        "print('MODS:' + ','.join(sorted(m for m in sys.modules if m.startswith('voiceband.cli.') and m not in "
+        "('voiceband.cli.main', 'voiceband.cli.usage', 'voiceband.cli.coercion', 'voiceband.cli.common'))))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert out.stdout.strip().splitlines()[-1] == "MODS:voiceband.cli.analyze", out.stdout[-400:]

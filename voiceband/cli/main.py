@@ -2,7 +2,9 @@
 
 Each command lives in its own module under ``voiceband.cli``; add a row to
 ``_COMMANDS`` to register one.  Command modules import heavy libraries inside
-the command function, so start-up stays lean.
+the command function, so start-up stays lean.  :func:`main` registers only the
+command named on the command line (building every command's options costs about
+50 ms); ``app`` (for tests and embedding) has them all.
 """
 
 from __future__ import annotations
@@ -16,7 +18,7 @@ from .usage import VoicebandGroup
 
 _install_plain_coercion()  # text and file-name options without loading pydantic (start-up)
 
-app = typer.Typer(
+_root_app = typer.Typer(
     name="voiceband",
     cls=VoicebandGroup,
     help="Measure and model the transmit audio of voice radio: levels, clipping, hum, "
@@ -49,7 +51,7 @@ def _version(value: bool) -> None:
         raise typer.Exit()
 
 
-@app.callback()
+@_root_app.callback()
 def _root(
     version: bool = typer.Option(False, "--version", callback=_version, is_eager=True, help="Print the version and exit."),
 ) -> None:
@@ -70,8 +72,29 @@ _SUMMARIES = {
     "batch": "Analyse many recordings into one table (CSV, JSON lines or Parquet).",
 }
 
-for _name, _module, _func in _COMMANDS:
-    app.command(_name, short_help=_SUMMARIES.get(_name))(getattr(importlib.import_module(_module), _func))
+_registered: set = set()
+
+
+def _with_commands(names=None) -> typer.Typer:
+    """The root app with the commands ``names`` (all when None) registered, once each, in table order."""
+    for name, module, func in _COMMANDS:
+        if name in _registered or (names is not None and name not in names):
+            continue
+        _root_app.command(name, short_help=_SUMMARIES.get(name))(getattr(importlib.import_module(module), func))
+        _registered.add(name)
+    return _root_app
+
+
+def _named_command(args: list) -> "list | None":
+    """``[CMD]`` when the first argument names a command, else None (help, --version, a typo: all)."""
+    known = {row[0] for row in _COMMANDS}
+    return [args[0]] if args and args[0] in known else None
+
+
+def __getattr__(name: str):
+    if name == "app":  # every command, as 'voiceband --help' lists them
+        return _with_commands()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def main() -> None:
@@ -88,6 +111,7 @@ def main() -> None:
         sys.stderr.write("voiceband: standard output is closed; redirect it to a file or /dev/null instead.\n")
         sys.exit(EXIT_BAD_INPUT)
     hint = _leading_dash_file(sys.argv[1:])
+    app = _with_commands(_named_command(sys.argv[1:]))
     try:
         code: object = 0
         if hint is None:
