@@ -119,6 +119,7 @@ from typing import Optional
 
 import numpy as np
 
+from ..arrays import sorted_unique
 from ..errors import SignalValueError
 from .. import validate
 
@@ -732,7 +733,7 @@ class ClippingAccumulator:
         if not keep.any():
             return
         starts, lengths, values, bins = starts[keep], lengths[keep], values[keep], bins[keep]
-        for b in np.unique(bins):
+        for b in sorted_unique(bins):
             sel = bins == b
             b = int(b)
             lv = side.levels.get(b)

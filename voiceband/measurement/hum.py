@@ -36,6 +36,7 @@ from typing import Optional
 
 import numpy as np
 
+from ..arrays import sorted_unique
 from .. import validate
 from ..errors import SignalValueError
 from .activity import LEVEL_BIN_COUNT, LEVEL_BIN_DB, LEVEL_MIN_DBFS, level_bins
@@ -196,7 +197,7 @@ class _HumWindows:
         if got is None:
             return
         bins, pw = got
-        for b in np.unique(bins).tolist():
+        for b in sorted_unique(bins).tolist():
             sel = bins == b
             hist[b] += pw[sel].sum(axis=0)
             counts[b] += int(np.count_nonzero(sel))

@@ -61,6 +61,7 @@ from typing import Optional
 
 import numpy as np
 
+from ..arrays import sorted_unique
 from .. import validate
 from ..errors import SignalValueError
 from ..units import db_amplitude, db_power
@@ -437,7 +438,7 @@ class LevelsAccumulator:
             self._interpolate(ext, head + off, g0 - off, None)
         # Candidates without look-ahead wait for the next block.
         later = np.concatenate((pend, new))
-        self._pending = np.unique(later[later > last]) + g0
+        self._pending = sorted_unique(later[later > last]) + g0
 
     def _interpolate(self, buf: np.ndarray, pos: np.ndarray, start: int, n_total: Optional[int]) -> None:
         """BS.1770 outputs in the two intervals next to each ``buf[pos]`` (global ``start + pos``).

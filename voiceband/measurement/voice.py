@@ -20,6 +20,7 @@ from typing import Optional
 
 import numpy as np
 
+from ..arrays import sorted_unique
 from .. import validate
 from ..fastlen import next_fast_len
 from ..errors import MeasurementError
@@ -643,7 +644,7 @@ class VoiceReservoir:
         n = max(1, int(round(width)))
         stop = np.minimum(start + n, chunks.shape[1])
         # Sums over the pieces between consecutive window edges, then windows from those.
-        edges = np.unique(np.concatenate((start, stop, [chunks.shape[1]])))
+        edges = sorted_unique(np.concatenate((start, stop, [chunks.shape[1]])))
         edges = edges[edges < chunks.shape[1]]
         pieces = np.add.reduceat(np.square(chunks), edges, axis=1, dtype=np.float64)
         cum = np.zeros((chunks.shape[0], edges.size + 1))
