@@ -30,18 +30,18 @@ def analytic_signal(x, n: Optional[int] = None) -> np.ndarray:
     The spectrum's positive-frequency bins are doubled and the negative ones zeroed (DC and,
     for even ``n``, the Nyquist bin kept), then transformed back (Marple 1999).
     """
-    from numpy.fft import fft, ifft
-
     x = np.asarray(x, dtype=np.float64)
     n = x.size if n is None else int(n)
-    spec = fft(x, n)
+    # The positive half comes from the real transform (half the work of a complex one); the
+    # negative-frequency bins stay zero.
+    half = np.fft.rfft(x, n)
+    spec = np.zeros(n, dtype=np.complex128)
+    top = n // 2 if n % 2 == 0 else (n + 1) // 2  # first bin not doubled (Nyquist, or the negative half)
+    spec[0] = half[0]
+    spec[1:top] = 2.0 * half[1:top]
     if n % 2 == 0:
-        spec[1:n // 2] *= 2.0
-        spec[n // 2 + 1:] = 0.0
-    else:
-        spec[1:(n + 1) // 2] *= 2.0
-        spec[(n + 1) // 2:] = 0.0
-    return ifft(spec)
+        spec[n // 2] = half[n // 2]
+    return np.fft.ifft(spec)
 
 
 def _periodic_hann(n: int) -> np.ndarray:
