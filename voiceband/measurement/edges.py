@@ -84,6 +84,9 @@ LOW_LIMIT_HZ = 20.0
 PASSBAND_SPAN_HZ = (250.0, 4000.0)
 #: A point counts as hidden when the speech PSD is less than this factor above the noise PSD.
 _HIDDEN_RATIO = 0.25
+#: Where the walk finds no edge: a point counts as not seen when the speech PSD is less than
+#: this factor times the noise PSD (speech frames less than 3 dB above the noise).
+_WEAK_RATIO = 1.0
 #: Below this fraction of the talker's 5th-percentile F0 there is no speech to see.
 _F0_FRACTION = 0.9
 
@@ -204,10 +207,12 @@ def fine_edges(
         npsd = smooth_log_spectrum(np.asarray(noise_psd, dtype=float), f, grid)
         clean = sp - npsd
         hidden = clean < _HIDDEN_RATIO * npsd
+        weak = clean < _WEAK_RATIO * npsd
         clean = np.maximum(clean, npsd * 10 ** (FLOOR_DB_RE_NOISE / 10))
     else:
         clean = sp
         hidden = np.zeros(grid.size, dtype=bool)
+        weak = hidden
     positive = clean > 0
     if not np.any(positive & ~hidden):
         return None
@@ -235,14 +240,16 @@ def fine_edges(
         vals = np.sort(rs[span])[::-1]
         pb = float(np.median(vals[: 2 * POINTS_PER_OCTAVE]))
         near_top = np.flatnonzero(span & (rs >= pb - 3.0))
-    i_lo, i_hi = int(near_top[0]), int(near_top[-1])
 
     # Where the walk out from the passband must stop: the speech is hidden in noise, or
     # lies below the talker's lowest fundamental (no speech energy whatever the chain).
     blind = hidden | below_f0
 
-    def one(step: int) -> Edge:
-        start = i_hi if step > 0 else i_lo
+    def one(step: int, blind: np.ndarray = blind, hidden: np.ndarray = hidden) -> Edge:
+        top = near_top[~blind[near_top]]
+        if top.size == 0:
+            top = near_top
+        start = int(top[-1]) if step > 0 else int(top[0])
         thr = pb - drop_db
         j = start
         while 0 <= j + step < grid.size and not blind[j + step]:
@@ -260,6 +267,11 @@ def fine_edges(
         outer = _stay_crossing(vlogf, view, s0, step, thr - TALKER_SPREAD_DB)
         edge_hz = float(grid[stop])
         end = nyq if step > 0 else float(grid[0])
+        if hz is None and limited is None and np.any(weak & ~hidden):
+            # The walk reached the span's end without the response falling: in heavy noise
+            # a small error of the noise estimate leaves a residue that reads as speech.
+            # Walk again treating speech less than the noise itself as not seen.
+            return one(step, blind | weak, hidden | weak)
         if inner is None:
             if limited is None:
                 return Edge(None, None, None, False, "span")
