@@ -84,6 +84,8 @@ LOW_LIMIT_HZ = 20.0
 PASSBAND_SPAN_HZ = (250.0, 4000.0)
 #: A point counts as hidden when the speech PSD is less than this factor above the noise PSD.
 _HIDDEN_RATIO = 0.25
+#: The low range reaches up through this many F0 (median) when its edge lies within them.
+F0_REGION_SPACINGS = 2.0
 #: Where the walk finds no edge: a point counts as not seen when the speech PSD is less than
 #: this factor times the noise PSD (speech frames less than 3 dB above the noise).
 _WEAK_RATIO = 1.0
@@ -246,7 +248,11 @@ def fine_edges(
     blind = hidden | below_f0
 
     def one(step: int, blind: np.ndarray = blind, hidden: np.ndarray = hidden) -> Edge:
-        top = near_top[~blind[near_top]]
+        # Walk out from the outermost passband point where the speech is clearly seen (in
+        # heavy noise a residue of the noise can read as passband level further out).
+        top = near_top[~(blind | weak)[near_top]]
+        if top.size == 0:
+            top = near_top[~blind[near_top]]
         if top.size == 0:
             top = near_top
         start = int(top[-1]) if step > 0 else int(top[0])
@@ -285,6 +291,19 @@ def fine_edges(
         # Smoothing spreads passband power outwards over its half-width, which moves a
         # crossing outwards: the range reaches that much further in.
         inner = inner * 2.0 ** (-step * _half_width_octaves(inner))
+        w = start
+        while 0 <= w + step < grid.size and not weak[w]:
+            w += step
+        if weak[w] and (inner - grid[w]) * step > 0:
+            # Speech less than the noise itself reads a few dB high or low from a small error
+            # of the noise estimate: the range reaches in to where it first does.
+            inner = float(grid[w])
+        if step < 0 and f0_median_hz and F0_REGION_SPACINGS and inner < F0_REGION_SPACINGS * f0_median_hz:
+            # Near the talker's fundamental the talker departs from the reference by more
+            # than the usual spread (the fundamental's own peak; the reference's lowest band
+            # is 160 Hz): the range reaches up to the passband's lower end or
+            # F0_REGION_SPACINGS x F0, whichever is lower.
+            inner = max(inner, min(float(grid[start]), F0_REGION_SPACINGS * float(f0_median_hz)))
         a, b = sorted((inner, min(outer, nyq)))
         if limited is not None:
             a, b = (a, nyq) if step > 0 else (float(grid[0]), b)
