@@ -268,9 +268,10 @@ def fine_edges(
         view = rs[lo_i: hi_i + 1]
         vlogf = logf[lo_i: hi_i + 1]
         s0 = 0 if step > 0 else view.size - 1
+        sunk = limited is not None
         hz = _stay_crossing(vlogf, view, s0, step, thr)
         inner = _stay_crossing(vlogf, view, s0, step, thr + TALKER_SPREAD_DB)
-        outer = _stay_crossing(vlogf, view, s0, step, thr - TALKER_SPREAD_DB)
+        outer = _stay_crossing(vlogf, view, s0, step, thr - TALKER_SPREAD_DB, confirm=sunk)
         edge_hz = float(grid[stop])
         end = nyq if step > 0 else float(grid[0])
         if hz is None and limited is None and np.any(weak & ~hidden):
@@ -288,6 +289,8 @@ def fine_edges(
             hz = edge_hz
         if outer is None:
             outer = end
+        elif hz is not None:
+            limited = None  # the whole range was seen before the speech sank from sight
         # Smoothing spreads passband power outwards over its half-width, which moves a
         # crossing outwards: the range reaches that much further in.
         inner = inner * 2.0 ** (-step * _half_width_octaves(inner))
@@ -304,6 +307,11 @@ def fine_edges(
             # is 160 Hz): the range reaches up to the passband's lower end or
             # F0_REGION_SPACINGS x F0, whichever is lower.
             inner = max(inner, min(float(grid[start]), F0_REGION_SPACINGS * float(f0_median_hz)))
+            # ... and down to where the talker's speech ends, as the talker's own drop
+            # towards the fundamental reads as a skirt there.
+            if outer < F0_REGION_SPACINGS * f0_median_hz:
+                outer = min(outer, float(grid[stop]))
+                limited = limited or "talker"
         a, b = sorted((inner, min(outer, nyq)))
         if limited is not None:
             a, b = (a, nyq) if step > 0 else (float(grid[0]), b)
@@ -382,7 +390,11 @@ def _smooth_db(r: np.ndarray, grid: np.ndarray, f0_hz: Optional[float], below_f0
     return 10.0 * np.log10(np.maximum(mean, 1e-300))
 
 
-def _stay_crossing(logf, r, start, step, level) -> Optional[float]:
+def _stay_crossing(logf, r, start, step, level, *, confirm: bool = False) -> Optional[float]:
+    """Where ``r`` first falls below ``level`` walking from ``start`` by ``step`` and stays
+    below (within 1 dB) for :data:`STAY_OCTAVES`; with ``confirm`` a crossing too near the
+    end of ``r`` to be seen staying below is not taken (``r`` ends where the speech sinks
+    from sight, and a talker's own drop there is no edge)."""
     n = r.size
     stay = int(round(STAY_OCTAVES * POINTS_PER_OCTAVE))
     i = start
@@ -390,6 +402,8 @@ def _stay_crossing(logf, r, start, step, level) -> Optional[float]:
         j = i + step
         if r[j] < level:
             seg = r[j: j + step * stay: step] if step > 0 else r[max(j - stay, 0): j + 1]
+            if confirm and seg.size < stay:
+                return None
             if np.all(seg < level + 1.0):
                 t = (r[i] - level) / (r[i] - r[j])
                 return float(2.0 ** (logf[i] + t * (logf[j] - logf[i])))
