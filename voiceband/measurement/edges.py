@@ -28,15 +28,22 @@ the distance from a steep filter's -3 to its -20 dB point.  Here:
 5. **Where the speech cannot be seen.**  The walk stops where the speech is hidden in
    noise (speech PSD less than a quarter of the noise PSD) or below 0.9 x the talker's
    5th-percentile F0 (no speech energy there whatever the chain).  An edge not reached by
-   then is reported where the speech sinks from sight, uncertain, with its range open to
-   the end of the analysed span (``limited_by`` "noise" or "talker"): never null while
+   then is reported where the speech sinks from sight (carried on along the skirt seen
+   last when that is as steep as a channel's, :data:`EXTRAPOLATE_OCTAVES` at most),
+   uncertain, with its range open to the end of the analysed span (``limited_by`` "noise" or "talker"): never null while
    the true edge may lie below Nyquist.
 6. **Uncertainty.** A talker departs from the reference by a few dB
    (:data:`TALKER_SPREAD_DB`, common practice: talker-to-talker spread of the LTASS), so
    the edge lies where ``R`` crosses ``-DROP_DB +/- TALKER_SPREAD_DB``; those crossings are
    the range.  A channel skirt is steeper (tens of dB per octave) than any voice's
    long-term spectrum, so a steep edge gives a narrow range however the talker departs; a
-   gentle roll-off (first-order RC) gives a wide one.
+   gentle roll-off (first-order RC) gives a wide one.  A range opens to the span's end
+   only when its outer crossing is not seen before the speech sinks from sight; it
+   reaches in to where the speech first falls below the noise itself (there a small error
+   of the noise estimate moves the response by dB).  Within :data:`F0_REGION_SPACINGS`
+   median F0 of the bottom the talker's own fundamental departs from any reference by
+   more than the usual spread, so a low range there reaches from where the talker's
+   speech ends up to the passband's lower end ("talker").
 7. **Knee.** The steepest slope of ``R`` inside the range (dB/octave) is reported; an edge
    whose range is wider than :data:`CERTAIN_RANGE_OCTAVES`, whose knee is gentler than
    :data:`STEEP_DB_PER_OCTAVE`, or that is limited by noise or the talker is marked
@@ -287,6 +294,8 @@ def fine_edges(
             # Sinks into the noise (or below the talker's F0) before falling 10 dB: the best
             # that can be said is where it sinks, reported as uncertain.
             hz = edge_hz
+            if EXTRAPOLATE_OCTAVES > 0:
+                hz = _extrapolate(logf, rs, stop, step, thr, edge_hz)
         if outer is None:
             outer = end
         elif hz is not None:
@@ -315,6 +324,8 @@ def fine_edges(
         a, b = sorted((inner, min(outer, nyq)))
         if limited is not None:
             a, b = (a, nyq) if step > 0 else (float(grid[0]), b)
+        if hz is not None:
+            hz = float(min(max(hz, a), b))
         sel = (grid >= a) & (grid <= b) & ~blind
         knee = None
         if np.count_nonzero(sel) >= 3:
@@ -388,6 +399,24 @@ def _smooth_db(r: np.ndarray, grid: np.ndarray, f0_hz: Optional[float], below_f0
     hi = np.searchsorted(logf, logf + half_oct, side="right")
     mean = (c[hi] - c[lo]) / np.maximum(hi - lo, 1)
     return 10.0 * np.log10(np.maximum(mean, 1e-300))
+
+
+#: An edge the speech sinks from sight before reaching is carried on along the skirt seen
+#: last (its slope over the last EXTRAPOLATE_FIT_OCTAVES), at most this far (octaves).
+EXTRAPOLATE_OCTAVES = 0.5
+EXTRAPOLATE_FIT_OCTAVES = 1.0 / 6.0
+
+
+def _extrapolate(logf, rs, stop, step, level, edge_hz) -> float:
+    n = max(int(round(EXTRAPOLATE_FIT_OCTAVES * POINTS_PER_OCTAVE)), 2)
+    idx = np.arange(stop - step * (n - 1), stop + step, step)
+    if idx.min() < 0 or idx.max() >= logf.size:
+        return edge_hz
+    slope = -step * np.polyfit(logf[idx], rs[idx], 1)[0]  # dB per octave falling outwards
+    remaining = float(rs[stop]) - level
+    if slope < STEEP_DB_PER_OCTAVE or remaining <= 0:  # only along a channel's skirt
+        return edge_hz
+    return float(edge_hz * 2.0 ** (step * min(remaining / slope, EXTRAPOLATE_OCTAVES)))
 
 
 def _stay_crossing(logf, r, start, step, level, *, confirm: bool = False) -> Optional[float]:
