@@ -366,6 +366,8 @@ def _half_width_octaves(f_hz=None) -> float:
 #: closing fills valleys narrower than its window but leaves a monotone skirt where it is,
 #: where an average spreads passband power outwards and moves a low edge down.
 COMB_SPACINGS = 1.0
+#: A point of the closing within this much of the response touches it (dB).
+_TOUCH_DB = 0.25
 
 
 def _closing_db(r: np.ndarray, grid: np.ndarray, width_hz: float) -> np.ndarray:
@@ -382,6 +384,14 @@ def _closing_db(r: np.ndarray, grid: np.ndarray, width_hz: float) -> np.ndarray:
     cut_hi = grid + width_hz / 2.0 > grid[-1]
     closed = np.where(cut_lo, np.minimum(closed, np.maximum.accumulate(r)), closed)
     closed = np.where(cut_hi, np.minimum(closed, np.maximum.accumulate(r[::-1])[::-1]), closed)
+    # On a resolved comb the closing is a staircase through the harmonic peaks (each step
+    # holds the lower neighbour's level); joining the points where it touches the response
+    # (the peaks; every point of a smooth stretch) by straight lines in log f reads a skirt
+    # between harmonics instead of at the next one.
+    touch = np.flatnonzero(r >= closed - _TOUCH_DB)
+    if touch.size >= 2:
+        logf = np.log2(grid)
+        closed = np.interp(logf, logf[touch], closed[touch])
     return closed
 
 
