@@ -118,7 +118,8 @@ class Edge:
         Narrow range and a steep knee.
     limited_by : str or None
         ``"noise"`` (the spectrum is hidden in noise beyond), ``"talker"`` (below the
-        talker's lowest fundamental), ``"span"`` (the analysed span ends), or ``None``.
+        talker's lowest fundamental, or near it, where the talker's own spectrum shapes what is
+        seen), ``"span"`` (the analysed span ends), or ``None``.
     """
 
     hz: Optional[float]
