@@ -231,7 +231,8 @@ def test_edges_of_a_harmonic_comb_through_scipy_filters(kind, order, low, high, 
     # The comb's valleys are bridged, not averaged over, so the low edge is not pulled down
     # by passband power spread outwards (it was read 5-20 % low with half an F0 spacing of
     # averaging).  Truth: the -10 dB points of scipy.signal.butter / cheby1 (0.5 dB ripple)
-    # from scipy.signal.sosfreqz.  Edges above the talker's lowest F0, within 5 %.
+    # from scipy.signal.sosfreqz.  Edges above the talker's lowest F0, within issue 8's
+    # targets: upper within 5 %, lower within 8 % or 25 Hz, whichever is larger.
     from scipy import signal
 
     n = 32768 if fs > 16000 else 8192
@@ -249,7 +250,7 @@ def test_edges_of_a_harmonic_comb_through_scipy_filters(kind, order, low, high, 
     true_low = fine[np.flatnonzero(db[:k] < thr)[-1]]
     true_high = fine[k + np.flatnonzero(db[k:] < thr)[0]]
     e = fine_edges(freqs, psd, None, effort_index=0.0, f0_low_hz=0.9 * f0, f0_median_hz=f0)
-    assert e.low.hz == pytest.approx(true_low, rel=0.05)
+    assert abs(e.low.hz - true_low) <= max(0.08 * true_low, 25.0)
     assert e.high.hz == pytest.approx(true_high, rel=0.05)
     assert e.low.range_hz[0] <= true_low <= e.low.range_hz[1]
     assert e.high.range_hz[0] <= true_high <= e.high.range_hz[1]

@@ -19,7 +19,8 @@ the distance from a steep filter's -3 to its -20 dB point.  Here:
    which fills valleys narrower than the window but leaves a monotone skirt where it is (an
    average over the comb would spread passband power outwards and move a low edge down).
    ``R`` is then averaged in power over 1/12 octave; the talker's tilt against the
-   reference, fitted over the passband, is removed.  Passband level = median of the best
+   reference, fitted over the passband, is removed above the passband's centre (below it
+   the talker's fundamental, not its source slope, shapes the spectrum).  Passband level = median of the best
    two octaves' worth of ``R`` in 250-4000 Hz.
 4. **Edge** = where ``R`` first falls :data:`DROP_DB` below the passband level and stays
    below for :data:`STAY_OCTAVES`, walking out from the passband, interpolated between
@@ -233,8 +234,7 @@ def fine_edges(
     logf = np.log2(grid)
     # Points where nothing can be said: hidden in noise, below the talker's lowest F0.
     below_f0 = grid < (_F0_FRACTION * f0_low_hz) if f0_low_hz else np.zeros(grid.size, dtype=bool)
-    # Smooth the response over a window that always spans a harmonic spacing (a voiced
-    # talker's long-term spectrum is a comb at multiples of F0) and at least 1/6 octave.
+    # The harmonic comb's valleys bridged (the envelope through its peaks), then 1/12 octave.
     rs = _smooth_db(r, grid, f0_median_hz, below_f0)
     span = (grid >= PASSBAND_SPAN_HZ[0]) & (grid <= min(PASSBAND_SPAN_HZ[1], top)) & ~hidden
     if np.count_nonzero(span) < POINTS_PER_OCTAVE // 2:
@@ -246,7 +246,10 @@ def fine_edges(
         # The talker's own tilt against the reference, fitted over the passband, removed.
         k = np.polyfit(logf[near_top], rs[near_top], 1)[0]
         mid = float(np.median(logf[near_top]))
-        rs = rs - k * (logf - mid)
+        # Only above the passband's centre: a talker's source slope shows there, while
+        # below it the talker's spectrum is shaped by its fundamental, which a straight
+        # line fitted over the whole passband would carry down onto the lower edge.
+        rs = rs - k * np.maximum(logf - mid, 0.0)
         vals = np.sort(rs[span])[::-1]
         pb = float(np.median(vals[: 2 * POINTS_PER_OCTAVE]))
         near_top = np.flatnonzero(span & (rs >= pb - 3.0))
