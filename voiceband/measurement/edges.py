@@ -43,8 +43,8 @@ the distance from a steep filter's -3 to its -20 dB point.  Here:
    reaches in to where the speech first falls below the noise itself (there a small error
    of the noise estimate moves the response by dB).  Within :data:`F0_REGION_SPACINGS`
    median F0 of the bottom the talker's own fundamental departs from any reference by
-   more than the usual spread, so a low range there reaches from where the talker's
-   speech ends up to the passband's lower end ("talker").
+   more than the usual spread, so a low range there reaches up to the passband's lower
+   end and, when its outer end lies there too, down to the bottom of the span ("talker").
 7. **Knee.** The steepest slope of ``R`` inside the range (dB/octave) is reported; an edge
    whose range is wider than :data:`CERTAIN_RANGE_OCTAVES`, whose knee is gentler than
    :data:`STEEP_DB_PER_OCTAVE`, or that is limited by noise or the talker is marked
@@ -116,7 +116,7 @@ class Edge:
     knee_db_per_octave : float or None
         Steepest slope magnitude of the estimated response inside the range.
     certain : bool
-        Narrow range and a steep knee.
+        Narrow range, a steep knee, and the whole range seen (not limited).
     limited_by : str or None
         ``"noise"`` (the spectrum is hidden in noise beyond), ``"talker"`` (below the
         talker's lowest fundamental, or near it, where the talker's own spectrum shapes what is
@@ -197,9 +197,13 @@ def fine_edges(
     effort_index : float or None, keyword-only
         Fitted vocal effort 0-3 (ANSI S3.5-1997 Table 3 scale); ``None`` uses Byrne (1994).
     f0_low_hz : float or None, keyword-only
-        The talker's low fundamental (e.g. 5th percentile); below it the range of a low
-        edge opens to the span's low end.
+        The talker's low fundamental (e.g. 5th percentile); below 0.9 x it nothing is seen,
+        and the range of a low edge there opens to the span's low end.
+    f0_median_hz : float or None, keyword-only
+        The talker's median fundamental: the harmonic spacing bridged, and the region
+        (two spacings) where a low edge's range is widened.
     drop_db : float, keyword-only
+        Edge criterion, dB below the passband level.
 
     Returns
     -------
@@ -320,10 +324,9 @@ def fine_edges(
             # is 160 Hz): the range reaches up to the passband's lower end or
             # F0_REGION_SPACINGS x F0, whichever is lower.
             inner = max(inner, min(float(grid[start]), F0_REGION_SPACINGS * float(f0_median_hz)))
-            # ... and down to where the talker's speech ends, as the talker's own drop
-            # towards the fundamental reads as a skirt there.
+            # ... and down to the bottom of the span when its outer end lies there too: the
+            # talker's own drop towards its fundamental reads as a skirt.
             if outer < F0_REGION_SPACINGS * f0_median_hz:
-                outer = min(outer, float(grid[stop]))
                 limited = limited or "talker"
         a, b = sorted((inner, min(outer, nyq)))
         if limited is not None:
@@ -448,7 +451,8 @@ def _stay_crossing(logf, r, start, step, level, *, confirm: bool = False) -> Opt
             if confirm and seg.size < stay:
                 return None
             if np.all(seg < level + 1.0):
-                t = (r[i] - level) / (r[i] - r[j])
+                d = r[i] - r[j]
+                t = min(max((r[i] - level) / d, 0.0), 1.0) if d > 0 else 0.0
                 return float(2.0 ** (logf[i] + t * (logf[j] - logf[i])))
         i = j
     return None
