@@ -217,8 +217,8 @@ def findings_for(
             add("steady_tone", frequency_hz=t.frequency_hz, level=level)
 
     e = spectrum.edges_hz
-    reasons = {"noise": "the speech is hidden in noise beyond it", "talker": "below the talker's lowest fundamental "
-               "there is no speech to show the chain", "span": "the analysed span ends", None: "a gentle roll-off, "
+    reasons = {"noise": "the speech is hidden in noise beyond it", "talker": "near and below the talker's fundamental "
+               "the talker's own spectrum, not the chain, shapes what is seen", "span": "the analysed span ends", None: "a gentle roll-off, "
                "which a talker's own spectrum can mimic"}
     for side, hz, rng, unc, lim in (("lower", e.low, e.low_range, e.low_uncertain, e.low_limited_by),
                                     ("upper", e.high, e.high_range, e.high_uncertain, e.high_limited_by)):

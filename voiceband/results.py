@@ -243,7 +243,7 @@ class EdgesRecord:
                 low=finite(fine.low.hz),
                 high=finite(fine.high.hz),
                 criterion_db=-fine.drop_db,
-                method=(f"fine long-term spectrum (speech minus noise, 1/12 octave and half an F0 spacing) minus the "
+                method=(f"fine long-term spectrum (speech minus noise, harmonic comb bridged, 1/12 octave) minus the "
                         f"{fine.reference} reference speech spectrum with the talker's tilt removed; "
                         f"{fine.drop_db:g} dB below the passband level; ranges from +/-8 dB of talker departure"),
                 lowest_band_hz=float(fine.span_hz[0]),

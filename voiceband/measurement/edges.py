@@ -13,22 +13,42 @@ the distance from a steep filter's -3 to its -20 dB point.  Here:
 2. **Reference.** The ANSI S3.5-1997 Table 3 spectrum at the vocal effort fitted to the
    recording (:func:`voiceband.measurement.bandwidth.fit_vocal_effort` via
    ``passband_edges(reference="auto")``), as spectrum level interpolated in log frequency.
-3. **Response** ``R = 10 log10(S) - reference``; passband level = median of the best two
-   octaves' worth of ``R`` in 250-4000 Hz.
-4. **Edge** = where ``R`` first falls :data:`DROP_DB` below the passband level, walking
-   out from the passband maximum, interpolated between grid points.  Edges between the
-   last one-third-octave band centre and Nyquist are found (the grid runs to Nyquist).
-5. **Uncertainty.** A talker departs from the reference by a few dB
+3. **Response** ``R = 10 log10(S) - reference``.  Above the talker's lowest fundamental a
+   voiced talker's long-term spectrum is a comb at multiples of F0; its valleys are bridged
+   by a closing in dB (running maximum then running minimum over one median F0 spacing),
+   which fills valleys narrower than the window but leaves a monotone skirt where it is (an
+   average over the comb would spread passband power outwards and move a low edge down).
+   ``R`` is then averaged in power over 1/12 octave; the talker's tilt against the
+   reference, fitted over the passband, is removed above the passband's centre (below it
+   the talker's fundamental, not its source slope, shapes the spectrum).  Passband level = median of the best
+   two octaves' worth of ``R`` in 250-4000 Hz.
+4. **Edge** = where ``R`` first falls :data:`DROP_DB` below the passband level and stays
+   below for :data:`STAY_OCTAVES`, walking out from the passband, interpolated between
+   grid points.  Edges between the last one-third-octave band centre and Nyquist are found
+   (the grid runs to Nyquist).
+5. **Where the speech cannot be seen.**  The walk stops where the speech is hidden in
+   noise (speech PSD less than a quarter of the noise PSD) or below 0.9 x the talker's
+   5th-percentile F0 (no speech energy there whatever the chain).  An edge not reached by
+   then is reported where the speech sinks from sight (carried on along the skirt seen
+   last when that is as steep as a channel's, :data:`EXTRAPOLATE_OCTAVES` at most),
+   uncertain, with its range open to the end of the analysed span (``limited_by`` "noise" or "talker"): never null while
+   the true edge may lie below Nyquist.
+6. **Uncertainty.** A talker departs from the reference by a few dB
    (:data:`TALKER_SPREAD_DB`, common practice: talker-to-talker spread of the LTASS), so
    the edge lies where ``R`` crosses ``-DROP_DB +/- TALKER_SPREAD_DB``; those crossings are
    the range.  A channel skirt is steeper (tens of dB per octave) than any voice's
    long-term spectrum, so a steep edge gives a narrow range however the talker departs; a
-   gentle roll-off (first-order RC) gives a wide one.  Where the spectrum is hidden in
-   noise, or lies below the talker's lowest fundamental (no speech energy there whatever
-   the chain), the range opens to the end of the analysed span.
-6. **Knee.** The steepest slope of ``R`` inside the range (dB/octave) is reported; an edge
-   whose range is wider than :data:`CERTAIN_RANGE_OCTAVES` or whose knee is gentler than
-   :data:`STEEP_DB_PER_OCTAVE` is marked uncertain.
+   gentle roll-off (first-order RC) gives a wide one.  A range opens to the span's end
+   only when its outer crossing is not seen before the speech sinks from sight; it
+   reaches in to where the speech first falls below the noise itself (there a small error
+   of the noise estimate moves the response by dB).  Within :data:`F0_REGION_SPACINGS`
+   median F0 of the bottom the talker's own fundamental departs from any reference by
+   more than the usual spread, so a low range there reaches up to the passband's lower
+   end and, when its outer end lies there too, down to the bottom of the span ("talker").
+7. **Knee.** The steepest slope of ``R`` inside the range (dB/octave) is reported; an edge
+   whose range is wider than :data:`CERTAIN_RANGE_OCTAVES`, whose knee is gentler than
+   :data:`STEEP_DB_PER_OCTAVE`, or that is limited by noise or the talker is marked
+   uncertain.
 
 Pure numpy; no I/O.
 """
@@ -72,6 +92,11 @@ LOW_LIMIT_HZ = 20.0
 PASSBAND_SPAN_HZ = (250.0, 4000.0)
 #: A point counts as hidden when the speech PSD is less than this factor above the noise PSD.
 _HIDDEN_RATIO = 0.25
+#: The low range reaches up through this many F0 (median) when its edge lies within them.
+F0_REGION_SPACINGS = 2.0
+#: Where the walk finds no edge: a point counts as not seen when the speech PSD is less than
+#: this factor times the noise PSD (speech frames less than 3 dB above the noise).
+_WEAK_RATIO = 1.0
 #: Below this fraction of the talker's 5th-percentile F0 there is no speech to see.
 _F0_FRACTION = 0.9
 
@@ -91,10 +116,11 @@ class Edge:
     knee_db_per_octave : float or None
         Steepest slope magnitude of the estimated response inside the range.
     certain : bool
-        Narrow range and a steep knee.
+        Narrow range, a steep knee, and the whole range seen (not limited).
     limited_by : str or None
         ``"noise"`` (the spectrum is hidden in noise beyond), ``"talker"`` (below the
-        talker's lowest fundamental), ``"span"`` (the analysed span ends), or ``None``.
+        talker's lowest fundamental, or near it, where the talker's own spectrum shapes what is
+        seen), ``"span"`` (the analysed span ends), or ``None``.
     """
 
     hz: Optional[float]
@@ -148,19 +174,6 @@ def _reference_db(grid_hz: np.ndarray, effort_index: Optional[float]) -> tuple[n
     return np.interp(np.log2(grid_hz), np.log2(centre), spectrum), label
 
 
-def _crossing(logf: np.ndarray, r: np.ndarray, start: int, step: int, level: float) -> Optional[float]:
-    # Walk from `start` in direction `step` until r falls below `level`; interpolate in log f.
-    i = start
-    n = r.size
-    while 0 <= i + step < n:
-        j = i + step
-        if r[j] < level:
-            t = (r[i] - level) / (r[i] - r[j])
-            return float(2.0 ** (logf[i] + t * (logf[j] - logf[i])))
-        i = j
-    return None
-
-
 def fine_edges(
     freqs_hz,
     speech_psd,
@@ -184,9 +197,13 @@ def fine_edges(
     effort_index : float or None, keyword-only
         Fitted vocal effort 0-3 (ANSI S3.5-1997 Table 3 scale); ``None`` uses Byrne (1994).
     f0_low_hz : float or None, keyword-only
-        The talker's low fundamental (e.g. 5th percentile); below it the range of a low
-        edge opens to the span's low end.
+        The talker's low fundamental (e.g. 5th percentile); below 0.9 x it nothing is seen,
+        and the range of a low edge there opens to the span's low end.
+    f0_median_hz : float or None, keyword-only
+        The talker's median fundamental: the harmonic spacing bridged, and the region
+        (two spacings) where a low edge's range is widened.
     drop_db : float, keyword-only
+        Edge criterion, dB below the passband level.
 
     Returns
     -------
@@ -205,10 +222,12 @@ def fine_edges(
         npsd = smooth_log_spectrum(np.asarray(noise_psd, dtype=float), f, grid)
         clean = sp - npsd
         hidden = clean < _HIDDEN_RATIO * npsd
+        weak = clean < _WEAK_RATIO * npsd
         clean = np.maximum(clean, npsd * 10 ** (FLOOR_DB_RE_NOISE / 10))
     else:
         clean = sp
         hidden = np.zeros(grid.size, dtype=bool)
+        weak = hidden
     positive = clean > 0
     if not np.any(positive & ~hidden):
         return None
@@ -219,9 +238,8 @@ def fine_edges(
     logf = np.log2(grid)
     # Points where nothing can be said: hidden in noise, below the talker's lowest F0.
     below_f0 = grid < (_F0_FRACTION * f0_low_hz) if f0_low_hz else np.zeros(grid.size, dtype=bool)
-    # Smooth the response over a window that always spans a harmonic spacing (a voiced
-    # talker's long-term spectrum is a comb at multiples of F0) and at least 1/6 octave.
-    rs = _smooth_db(r, grid, f0_median_hz)
+    # The harmonic comb's valleys bridged (the envelope through its peaks), then 1/12 octave.
+    rs = _smooth_db(r, grid, f0_median_hz, below_f0)
     span = (grid >= PASSBAND_SPAN_HZ[0]) & (grid <= min(PASSBAND_SPAN_HZ[1], top)) & ~hidden
     if np.count_nonzero(span) < POINTS_PER_OCTAVE // 2:
         span = ~hidden
@@ -232,35 +250,99 @@ def fine_edges(
         # The talker's own tilt against the reference, fitted over the passband, removed.
         k = np.polyfit(logf[near_top], rs[near_top], 1)[0]
         mid = float(np.median(logf[near_top]))
-        rs = rs - k * (logf - mid)
+        # Only above the passband's centre: a talker's source slope shows there, while
+        # below it the talker's spectrum is shaped by its fundamental, which a straight
+        # line fitted over the whole passband would carry down onto the lower edge.
+        rs = rs - k * np.maximum(logf - mid, 0.0)
         vals = np.sort(rs[span])[::-1]
         pb = float(np.median(vals[: 2 * POINTS_PER_OCTAVE]))
         near_top = np.flatnonzero(span & (rs >= pb - 3.0))
-    i_mid = int(near_top[near_top.size // 2]) if near_top.size else int(np.flatnonzero(span)[0])
-    i_lo, i_hi = int(near_top[0]), int(near_top[-1])
 
-    def one(step: int) -> Edge:
-        start = i_hi if step > 0 else i_lo
+    # Where the walk out from the passband must stop: the speech is hidden in noise, or
+    # lies below the talker's lowest fundamental (no speech energy whatever the chain).
+    blind = hidden | below_f0
+
+    def one(step: int, blind: np.ndarray = blind, hidden: np.ndarray = hidden) -> Edge:
+        # Walk out from the outermost passband point where the speech is clearly seen (in
+        # heavy noise a residue of the noise can read as passband level further out).
+        top = near_top[~(blind | weak)[near_top]]
+        if top.size == 0:
+            top = near_top[~blind[near_top]]
+        if top.size == 0:
+            top = near_top
+        start = int(top[-1]) if step > 0 else int(top[0])
         thr = pb - drop_db
-        hz = _stay_crossing(logf, rs, start, step, thr)
-        inner = _stay_crossing(logf, rs, start, step, thr + TALKER_SPREAD_DB)
-        outer = _stay_crossing(logf, rs, start, step, thr - TALKER_SPREAD_DB)
+        j = start
+        while 0 <= j + step < grid.size and not blind[j + step]:
+            j += step
+        stop = j  # last visible point walking out
+        limited = None
+        if 0 <= stop + step < grid.size:
+            limited = "noise" if hidden[stop + step] else "talker"
+        lo_i, hi_i = (start, stop) if step > 0 else (stop, start)
+        view = rs[lo_i: hi_i + 1]
+        vlogf = logf[lo_i: hi_i + 1]
+        s0 = 0 if step > 0 else view.size - 1
+        sunk = limited is not None
+        hz = _stay_crossing(vlogf, view, s0, step, thr)
+        inner = _stay_crossing(vlogf, view, s0, step, thr + TALKER_SPREAD_DB)
+        outer = _stay_crossing(vlogf, view, s0, step, thr - TALKER_SPREAD_DB, confirm=sunk)
+        edge_hz = float(grid[stop])
+        end = nyq if step > 0 else float(grid[0])
+        if hz is None and limited is None and np.any(weak & ~hidden):
+            # The walk reached the span's end without the response falling: in heavy noise
+            # a small error of the noise estimate leaves a residue that reads as speech.
+            # Walk again treating speech less than the noise itself as not seen.
+            return one(step, blind | weak, hidden | weak)
         if inner is None:
-            return Edge(None, None, None, False, "span")
+            if limited is None:
+                return Edge(None, None, None, False, "span")
+            inner = edge_hz
+        if hz is None and limited is not None:
+            # Sinks into the noise (or below the talker's F0) before falling 10 dB: the best
+            # that can be said is where it sinks, reported as uncertain.
+            hz = edge_hz
+            if EXTRAPOLATE_OCTAVES > 0:
+                hz = _extrapolate(logf, rs, stop, step, thr, edge_hz)
         if outer is None:
-            outer = nyq if step > 0 else float(grid[0])
+            outer = end
+        elif hz is not None:
+            limited = None  # the whole range was seen before the speech sank from sight
         # Smoothing spreads passband power outwards over its half-width, which moves a
         # crossing outwards: the range reaches that much further in.
-        inner = inner * 2.0 ** (-step * _half_width_octaves(inner, f0_median_hz))
-        a, b = sorted((inner, outer))
-        sel = (grid >= a) & (grid <= b)
+        inner = inner * 2.0 ** (-step * _half_width_octaves(inner))
+        w = start
+        while 0 <= w + step < grid.size and not weak[w]:
+            w += step
+        if weak[w] and (inner - grid[w]) * step > 0:
+            # Speech less than the noise itself reads a few dB high or low from a small error
+            # of the noise estimate: the range reaches in to where it first does.
+            inner = float(grid[w])
+        if step < 0 and f0_median_hz and F0_REGION_SPACINGS and inner < F0_REGION_SPACINGS * f0_median_hz:
+            # Near the talker's fundamental the talker departs from the reference by more
+            # than the usual spread (the fundamental's own peak; the reference's lowest band
+            # is 160 Hz): the range reaches up to the passband's lower end or
+            # F0_REGION_SPACINGS x F0, whichever is lower.
+            inner = max(inner, min(float(grid[start]), F0_REGION_SPACINGS * float(f0_median_hz)))
+            # ... and down to the bottom of the span when its outer end lies there too: the
+            # talker's own drop towards its fundamental reads as a skirt.
+            if outer < F0_REGION_SPACINGS * f0_median_hz:
+                limited = limited or "talker"
+        a, b = sorted((inner, min(outer, nyq)))
+        if limited is not None:
+            a, b = (a, nyq) if step > 0 else (float(grid[0]), b)
+        if hz is not None:
+            hz = float(min(max(hz, a), b))
+        sel = (grid >= a) & (grid <= b) & ~blind
         knee = None
         if np.count_nonzero(sel) >= 3:
             knee = float(np.max(np.abs(np.gradient(rs, logf)[sel])))
-        return Edge(hz, (float(a), float(b)), knee, False, None)
+        width = math.log2(b / a) if a > 0 else math.inf
+        certain = (limited is None and width <= CERTAIN_RANGE_OCTAVES
+                   and knee is not None and knee >= STEEP_DB_PER_OCTAVE)
+        return Edge(hz, (float(a), float(b)), knee, certain, limited)
 
-    low = _limit(one(-1), -1, grid, hidden, below_f0, nyq)
-    high = _limit(one(+1), +1, grid, hidden, below_f0, nyq)
+    low, high = one(-1), one(+1)
     return FineEdges(
         low=low,
         high=high,
@@ -274,35 +356,91 @@ def fine_edges(
 
 #: Remove the talker's tilt against the reference over the passband.
 TILT_CORRECTION = True
-#: Smoothing window at least this many F0 spacings wide.
-F0_WINDOW = 0.5
-#: Smoothing of the response: at least this many octaves, and at least one F0 spacing.
+#: Smoothing of the response (octaves, power average) after the comb closing.
 RESPONSE_SMOOTH_OCTAVES = 1.0 / 12.0
 #: A crossing counts only if the response stays below the level for this many octaves
 #: (or to the end of the span): a talker's narrow dip is not an edge.
 STAY_OCTAVES = 0.25
 
 
-def _half_width_octaves(f_hz, f0_hz: Optional[float]):
-    """Half-width (octaves) of the response smoothing window at ``f_hz``."""
-    hw = RESPONSE_SMOOTH_OCTAVES / 2
+def _half_width_octaves(f_hz=None) -> float:
+    """Half-width (octaves) of the response smoothing window."""
+    return RESPONSE_SMOOTH_OCTAVES / 2
+
+
+#: Bridge the valleys of a voiced talker's harmonic comb by a closing (running maximum then
+#: running minimum, in dB) over this many F0 spacings, instead of averaging over them: a
+#: closing fills valleys narrower than its window but leaves a monotone skirt where it is,
+#: where an average spreads passband power outwards and moves a low edge down.
+COMB_SPACINGS = 1.0
+#: A point of the closing within this much of the response touches it (dB).
+_TOUCH_DB = 0.25
+
+
+def _closing_db(r: np.ndarray, grid: np.ndarray, width_hz: float) -> np.ndarray:
+    lo = np.searchsorted(grid, grid - width_hz / 2.0, side="left")
+    hi = np.searchsorted(grid, grid + width_hz / 2.0, side="right")
+    if np.all(hi - lo <= 1):
+        return r
+    up = np.array([r[a:b].max() for a, b in zip(lo, hi)])
+    closed = np.array([up[a:b].min() for a, b in zip(lo, hi)])
+    # Beyond the grid the response is taken as continuing at its end value; a window cut
+    # by the grid's end then also holds the running maximum from that end to the point
+    # (what the dilation there would give), so a monotone skirt near an end is kept.
+    cut_lo = grid - width_hz / 2.0 < grid[0]
+    cut_hi = grid + width_hz / 2.0 > grid[-1]
+    closed = np.where(cut_lo, np.minimum(closed, np.maximum.accumulate(r)), closed)
+    closed = np.where(cut_hi, np.minimum(closed, np.maximum.accumulate(r[::-1])[::-1]), closed)
+    # On a resolved comb the closing is a staircase through the harmonic peaks (each step
+    # holds the lower neighbour's level); joining the points where it touches the response
+    # (the peaks; every point of a smooth stretch) by straight lines in log f reads a skirt
+    # between harmonics instead of at the next one.
+    touch = np.flatnonzero(r >= closed - _TOUCH_DB)
+    if touch.size >= 2:
+        logf = np.log2(grid)
+        closed = np.interp(logf, logf[touch], closed[touch])
+    return closed
+
+
+def _smooth_db(r: np.ndarray, grid: np.ndarray, f0_hz: Optional[float], below_f0=None) -> np.ndarray:
     if f0_hz:
-        hw = np.maximum(hw, np.log2(1.0 + F0_WINDOW * 0.5 * f0_hz / np.asarray(f_hz, dtype=float)))
-    return hw
-
-
-def _smooth_db(r: np.ndarray, grid: np.ndarray, f0_hz: Optional[float]) -> np.ndarray:
+        # Only above the talker's lowest F0: below it there is no comb to bridge.
+        k = int(np.count_nonzero(below_f0)) if below_f0 is not None else 0
+        if k < grid.size:
+            r = np.concatenate((r[:k], _closing_db(r[k:], grid[k:], COMB_SPACINGS * float(f0_hz))))
     p = 10.0 ** (r / 10.0)
     c = np.concatenate(([0.0], np.cumsum(p)))
     logf = np.log2(grid)
-    half_oct = np.broadcast_to(_half_width_octaves(grid, f0_hz), grid.shape)
+    half_oct = np.full(grid.shape, _half_width_octaves())
     lo = np.searchsorted(logf, logf - half_oct, side="left")
     hi = np.searchsorted(logf, logf + half_oct, side="right")
     mean = (c[hi] - c[lo]) / np.maximum(hi - lo, 1)
     return 10.0 * np.log10(np.maximum(mean, 1e-300))
 
 
-def _stay_crossing(logf, r, start, step, level) -> Optional[float]:
+#: An edge the speech sinks from sight before reaching is carried on along the skirt seen
+#: last (its slope over the last EXTRAPOLATE_FIT_OCTAVES), at most this far (octaves).
+EXTRAPOLATE_OCTAVES = 0.5
+EXTRAPOLATE_FIT_OCTAVES = 1.0 / 6.0
+
+
+def _extrapolate(logf, rs, stop, step, level, edge_hz) -> float:
+    n = max(int(round(EXTRAPOLATE_FIT_OCTAVES * POINTS_PER_OCTAVE)), 2)
+    idx = np.arange(stop - step * (n - 1), stop + step, step)
+    if idx.min() < 0 or idx.max() >= logf.size:
+        return edge_hz
+    slope = -step * np.polyfit(logf[idx], rs[idx], 1)[0]  # dB per octave falling outwards
+    remaining = float(rs[stop]) - level
+    if slope < STEEP_DB_PER_OCTAVE or remaining <= 0:  # only along a channel's skirt
+        return edge_hz
+    return float(edge_hz * 2.0 ** (step * min(remaining / slope, EXTRAPOLATE_OCTAVES)))
+
+
+def _stay_crossing(logf, r, start, step, level, *, confirm: bool = False) -> Optional[float]:
+    """Where ``r`` first falls below ``level`` walking from ``start`` by ``step`` and stays
+    below (within 1 dB) for :data:`STAY_OCTAVES`; with ``confirm`` a crossing too near the
+    end of ``r`` to be seen staying below is not taken (``r`` ends where the speech sinks
+    from sight, and a talker's own drop there is no edge)."""
     n = r.size
     stay = int(round(STAY_OCTAVES * POINTS_PER_OCTAVE))
     i = start
@@ -310,143 +448,11 @@ def _stay_crossing(logf, r, start, step, level) -> Optional[float]:
         j = i + step
         if r[j] < level:
             seg = r[j: j + step * stay: step] if step > 0 else r[max(j - stay, 0): j + 1]
+            if confirm and seg.size < stay:
+                return None
             if np.all(seg < level + 1.0):
-                t = (r[i] - level) / (r[i] - r[j])
+                d = r[i] - r[j]
+                t = min(max((r[i] - level) / d, 0.0), 1.0) if d > 0 else 0.0
                 return float(2.0 ** (logf[i] + t * (logf[j] - logf[i])))
         i = j
     return None
-
-
-#: Skirt orders tried (a Butterworth-like skirt -10 log10(1 + (f/fc)**(2 n)); n = 1 is a first-order RC).
-_ORDERS = (0.5, 0.75, 1.0, 1.5, 2.0, 3.0, 4.0, 5.0, 6.0, 8.0, 10.0)
-#: Fit cost within this factor of the best marks the candidates that span the range.
-RANGE_COST_FACTOR = 1.25
-
-
-def _skirt_db(logf: np.ndarray, log_fc: np.ndarray, n: np.ndarray, high: bool) -> np.ndarray:
-    # -10 log10(1 + (f/fc)^(2n)) (high) or (fc/f)^(2n) (low), shape (candidates, points).
-    d = (logf[None, :] - log_fc[:, None]) if high else (log_fc[:, None] - logf[None, :])
-    e = np.minimum(2.0 * n[:, None] * d * math.log10(2.0), 30.0)
-    return -10.0 * np.log10(1.0 + 10.0 ** e)
-
-
-def _edge_of(logf_fine: np.ndarray, low_db: np.ndarray, high_db: np.ndarray, drop: float):
-    total = low_db + high_db
-    k = int(np.argmax(total))
-    thr = total[k] - drop
-    lo = hi = None
-    below = np.flatnonzero(total[:k] < thr)
-    if below.size:
-        j = below[-1]
-        t = (total[j + 1] - thr) / (total[j + 1] - total[j])
-        lo = 2.0 ** (logf_fine[j + 1] + t * (logf_fine[j] - logf_fine[j + 1]))
-    above = np.flatnonzero(total[k:] < thr)
-    if above.size:
-        j = k + above[0]
-        t = (total[j - 1] - thr) / (total[j - 1] - total[j])
-        hi = 2.0 ** (logf_fine[j - 1] + t * (logf_fine[j] - logf_fine[j - 1]))
-    return lo, hi
-
-
-def _fit_skirts(logf, r, use, hidden, hidden_bound, nyq):
-    """Least-squares fit of level + tilt + low skirt + high skirt to the response r (dB)."""
-    if np.count_nonzero(use) < POINTS_PER_OCTAVE:
-        return None
-    x = logf - math.log2(1000.0)
-    lf_min, lf_max = math.log2(LOW_LIMIT_HZ), math.log2(nyq * 1.5)
-    step = 1.0 / POINTS_PER_OCTAVE
-    fcs_low = np.arange(lf_min, math.log2(2500.0), step)
-    fcs_high = np.arange(math.log2(400.0), lf_max, step)
-    orders = np.array(_ORDERS)
-
-    def candidates(fcs):
-        return np.repeat(fcs, orders.size), np.tile(orders, fcs.size)
-
-    cand_low = candidates(fcs_low)
-    cand_high = candidates(fcs_high)
-    xu, ru = x[use], r[use]
-    A = np.vstack([np.ones(xu.size), xu]).T
-    pinv = np.linalg.pinv(A)
-
-    def costs(fixed_db, cand, high):
-        m = fixed_db[None, :] + _skirt_db(logf, cand[0], cand[1], high)  # (c, points)
-        res_target = ru[None, :] - m[:, use]
-        coef = res_target @ pinv.T  # (c, 2)
-        resid = res_target - coef @ A.T
-        cost = np.sum(resid * resid, axis=1)
-        if hidden_bound is not None and np.any(hidden):
-            full = m[:, hidden] + coef[:, :1] + coef[:, 1:2] * x[hidden][None, :]
-            excess = np.maximum(full - hidden_bound[hidden][None, :], 0.0)
-            cost = cost + np.sum(excess * excess, axis=1)
-        return cost, m
-
-    low_db = np.zeros(logf.size)
-    high_db = np.zeros(logf.size)
-    best_low = best_high = None
-    for _ in range(3):
-        c_h, m_h = costs(low_db, cand_high, True)
-        ih = int(np.argmin(c_h))
-        high_db = _skirt_db(logf, cand_high[0][ih:ih + 1], cand_high[1][ih:ih + 1], True)[0]
-        c_l, m_l = costs(high_db, cand_low, False)
-        il = int(np.argmin(c_l))
-        low_db = _skirt_db(logf, cand_low[0][il:il + 1], cand_low[1][il:il + 1], False)[0]
-        best_low, best_high = (c_l, il), (c_h, ih)
-    # Edges of the best model, and of every candidate whose cost is near the best (the range).
-    fine = np.arange(lf_min, lf_max, 1.0 / 480.0)
-
-    def side(cand, costs_, ib, high):
-        keep = np.flatnonzero(costs_ <= costs_[ib] * RANGE_COST_FACTOR)
-        other = (_skirt_db(fine, cand_low[0][best_low[1]:best_low[1] + 1], cand_low[1][best_low[1]:best_low[1] + 1], False)[0]
-                 if high else
-                 _skirt_db(fine, cand_high[0][best_high[1]:best_high[1] + 1], cand_high[1][best_high[1]:best_high[1] + 1], True)[0])
-        own = _skirt_db(fine, cand[0][keep], cand[1][keep], high)
-        edges = []
-        for row in own:
-            lo, hi = _edge_of(fine, row if not high else other, other if not high else row, DROP_DB)
-            edges.append(hi if high else lo)
-        best = edges[int(np.flatnonzero(keep == ib)[0])]
-        vals = [e for e in edges if e is not None]
-        order = float(cand[1][ib])
-        rng_ = (min(vals), max(vals)) if vals else None
-        if vals and len(vals) < len(edges):
-            rng_ = (rng_[0], nyq) if high else (LOW_LIMIT_HZ, rng_[1])
-        return best, rng_, order
-
-    lo_hz, lo_range, lo_n = side(cand_low, best_low[0], best_low[1], False)
-    hi_hz, hi_range, hi_n = side(cand_high, best_high[0], best_high[1], True)
-    if hi_hz is not None and hi_hz >= nyq:
-        hi_hz = None
-    model = low_db + high_db
-    model = model - model.max()
-    low = Edge(lo_hz, lo_range, 6.02 * lo_n, False, None)
-    high = Edge(hi_hz, hi_range, 6.02 * hi_n, False, None)
-    return low, high, model
-
-
-def _limit(e: Edge, step: int, grid, hidden, below_f0, nyq) -> Edge:
-    """Open the range where the spectrum beyond the edge cannot be seen; decide certainty."""
-    limited = None
-    rng_ = e.range_hz
-    if rng_ is not None:
-        a, b = rng_
-        outer = b if step > 0 else a
-        k = int(np.clip(np.searchsorted(grid, outer), 0, grid.size - 1))
-        if hidden[k]:
-            limited = "noise"
-        elif step < 0 and below_f0[k]:
-            limited = "talker"
-        if limited is not None:
-            rng_ = (a, nyq) if step > 0 else (float(grid[0]), b)
-        if b > nyq:
-            rng_ = (rng_[0], nyq)
-    hz = e.hz
-    if hz is None and limited == "noise" and rng_ is not None:
-        # The speech sinks into the noise before falling 10 dB: the best that can be said is
-        # where it sinks (the range's inner end), reported as uncertain.
-        hz = rng_[0] if step > 0 else rng_[1]
-    e = Edge(hz, e.range_hz, e.knee_db_per_octave, e.certain, e.limited_by)
-    width = math.log2(rng_[1] / rng_[0]) if rng_ is not None and rng_[0] > 0 else math.inf
-    knee = e.knee_db_per_octave
-    certain = (e.hz is not None and limited is None and width <= CERTAIN_RANGE_OCTAVES
-               and knee is not None and knee >= STEEP_DB_PER_OCTAVE)
-    return Edge(e.hz, rng_, knee, certain, limited)
