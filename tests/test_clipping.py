@@ -422,6 +422,19 @@ def test_block_size_invariance(rng, feed_in_random_blocks):
         assert feed_in_random_blocks(ClippingAccumulator(fs), x, rng, max_len) == one
 
 
+def test_block_size_invariance_under_a_fade_in(rng, feed_in_random_blocks):
+    # A level rising through every block (each chunk raises the running extreme) and clipped
+    # at the end: blocks of many chunks find the same clipped runs as short blocks.
+    fs = 16000
+    n = 8 * fs
+    ramp = np.linspace(0.05, 1.0, n)
+    x = np.clip(speech_like(rng, fs, 8.0)[:n] * ramp * 4.0, -0.3, 0.35)
+    one = measure_clipping(x, fs)
+    assert one.event_count > 10
+    for max_len in (700, 40000, 200000):
+        assert feed_in_random_blocks(ClippingAccumulator(fs), x, rng, max_len) == one
+
+
 def test_result_does_not_change_the_accumulator(rng):
     fs = 8000
     x = np.clip(speech_like(rng, fs, 4.0), -0.2, 0.2)

@@ -381,3 +381,21 @@ def test_other_bad_input():
         LevelsAccumulator(0)
     with pytest.raises(SignalValueError, match="real numbers"):
         measure_levels(np.array(["a", "b"]), 8000)
+
+
+def test_true_peak_does_not_depend_on_candidate_thinning(monkeypatch):
+    # The thinning of true-peak candidates to local maxima is only a memory saving: the BS.1770
+    # interpolation applies the same test, so thinning always, or never, gives the same reading.
+    import voiceband.measurement.levels as lm
+
+    rng = np.random.default_rng(3)
+    x = np.clip(rng.standard_normal(200_000) * 0.3, -0.9, 0.9)  # many samples near the peak
+    readings = []
+    for limit in (0, 10**9):
+        monkeypatch.setattr(lm, "_PREFILTER_CANDIDATES", limit)
+        acc = lm.LevelsAccumulator(48000)
+        for i in range(0, x.size, 30_000):
+            acc.update(x[i:i + 30_000])
+        r = acc.result()
+        readings.append((r.true_peak_dbtp, r.true_peak_time_s))
+    assert readings[0] == readings[1]

@@ -132,6 +132,10 @@ def test_a_reused_stimulus_inverse_gives_the_same_deconvolution(sweep16):
     assert reused.inverse is d1.inverse
     scale = np.max(np.abs(fresh.impulse_response))
     assert np.max(np.abs(reused.impulse_response - fresh.impulse_response)) < 1e-12 * scale
+    # the stimulus itself (zero-padded) reuses the stimulus's own transform: the same bits
+    ideal_y = np.concatenate([x, np.zeros(4123)])
+    assert np.array_equal(deconvolve(ideal_y, x, sample_rate_hz=FS, band_hz=band, inverse=d1.inverse).impulse_response,
+                          deconvolve(ideal_y, x, sample_rate_hz=FS, band_hz=band).impulse_response)
     # an inverse built for another grid is not used
     other = deconvolve(y2[:-1000], x, sample_rate_hz=FS, band_hz=band, inverse=d1.inverse)
     assert other.inverse is not d1.inverse and other.n_fft != d1.n_fft

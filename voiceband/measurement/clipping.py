@@ -506,6 +506,13 @@ class _Found:
     tol: float = 0.0  # tolerance below the level (noisy ceilings)
 
 
+def _joined(parts: list) -> np.ndarray:
+    """The index arrays of ``parts`` as one (ascending when each part is and they follow in order)."""
+    if not parts:
+        return np.zeros(0, dtype=np.intp)
+    return parts[0] if len(parts) == 1 else np.concatenate(parts)
+
+
 class ClippingAccumulator:
     """Streaming clipping detector (see the module docstring for the method).
 
@@ -578,14 +585,28 @@ class ClippingAccumulator:
         n = x.size
         if n == 0:
             return
-        # Extremes per cache-sized chunk (the second pass over a chunk reads L2).
+        # Extremes per cache-sized chunk, and each side's candidate samples while the chunk is
+        # in L2: those at or beyond the side's threshold so far (its extreme raised by this
+        # block's chunks up to here).  The threshold only rises, so the candidates are a
+        # superset of the samples at or beyond the final one, which _side_update keeps.
         starts = np.arange(0, n, _CHUNK)
         hi_c = np.empty(starts.size)
         lo_c = np.empty(starts.size)
+        region = self._hist_region
+        run_hi, run_lo = self._sides[0].extreme, self._sides[1].extreme
+        cand_hi, cand_lo = [], []
         for i, j in enumerate(starts):
             xc = x[j:j + _CHUNK]
-            hi_c[i] = xc.max()
-            lo_c[i] = xc.min()
+            h = hi_c[i] = xc.max()
+            lo_ = lo_c[i] = xc.min()
+            if h > run_hi:
+                run_hi = h
+            if -lo_ > run_lo:
+                run_lo = -lo_
+            if run_hi > 0.0 and h >= run_hi * region:
+                cand_hi.append(np.flatnonzero(xc >= run_hi * region) + j)
+            if run_lo > 0.0 and -lo_ >= run_lo * region:
+                cand_lo.append(np.flatnonzero(xc <= -run_lo * region) + j)
         hi = float(hi_c.max())
         lo = float(lo_c.min())
         if not (math.isfinite(hi) and math.isfinite(lo)):
@@ -594,12 +615,12 @@ class ClippingAccumulator:
                 f"The signal holds a NaN or infinite sample (first at sample {bad}, "
                 f"{bad / self._fs:.3f} s), so clipping cannot be measured."
             )
-        self._side_update(self._sides[0], x, hi, hi_c, +1)
-        self._side_update(self._sides[1], x, -lo, -lo_c, -1)
+        self._side_update(self._sides[0], x, hi, _joined(cand_hi), +1)
+        self._side_update(self._sides[1], x, -lo, _joined(cand_lo), -1)
         self._n += n
         self._tail = np.concatenate((self._tail, x[-self._tail_len:]))[-self._tail_len:]
 
-    def _side_update(self, side: _Side, x: np.ndarray, block_extreme: float, chunk_extremes: np.ndarray,
+    def _side_update(self, side: _Side, x: np.ndarray, block_extreme: float, candidates: np.ndarray,
                      sign: int) -> None:
         g0 = self._n
         n = x.size
@@ -613,12 +634,8 @@ class ClippingAccumulator:
             self._flush_open(side)
             self._noisy_update(side, _EMPTY, _EMPTY, sign, g0 + n - self._min_run)
             return
-        parts = []
-        for i in np.flatnonzero(chunk_extremes >= thr):
-            j = i * _CHUNK
-            xc = x[j:j + _CHUNK]
-            parts.append((np.flatnonzero(xc >= thr) if sign > 0 else np.flatnonzero(xc <= -thr)) + j)
-        idx = np.concatenate(parts) if len(parts) > 1 else parts[0]
+        xv = x[candidates]
+        idx = candidates[xv >= thr] if sign > 0 else candidates[xv <= -thr]
         v = x[idx]
         if sign < 0:
             v = -v

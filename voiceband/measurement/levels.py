@@ -55,6 +55,7 @@ ITU-T G.191 software tool library, ``sv56demo``.
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from typing import Optional
@@ -165,6 +166,16 @@ _BELOW_LADDER = np.float32(2.0 ** ((_LADDER_MIN - 0.5) / _LADDER_STEPS_PER_OCTAV
 _ENVELOPE_RATE_HZ = 750.0
 # Samples per inner chunk of a block (256 KiB of float64: stays in L2 cache).
 _CHUNK = 1 << 15
+# More true-peak candidates than this in a chunk are thinned to local maxima at once.
+_PREFILTER_CANDIDATES = 256
+
+
+@functools.lru_cache(maxsize=8)
+def _decay_powers(decay: float, n: int) -> np.ndarray:
+    """``exp(-decay * k)`` for ``k = 1 ... n`` (read-only; the same few tables serve every block)."""
+    gk = np.exp(-decay * np.arange(1, n + 1, dtype=np.float64))
+    gk.setflags(write=False)
+    return gk
 
 
 def _one_pole(u: np.ndarray, g: float, y_prev: float) -> np.ndarray:
@@ -181,10 +192,10 @@ def _one_pole(u: np.ndarray, g: float, y_prev: float) -> np.ndarray:
         return out
     decay = -math.log(g) if g > 0 else 700.0
     chunk = max(1, int(600.0 / max(decay, 1e-12)))
+    powers = _decay_powers(decay, min(chunk, u.size))
     for start in range(0, u.size, chunk):
         seg = u[start:start + chunk]
-        k = np.arange(1, seg.size + 1, dtype=np.float64)
-        gk = np.exp(-decay * k)
+        gk = powers[:seg.size]
         acc = np.cumsum(seg / gk)
         acc *= 1.0 - g
         acc += y_prev
@@ -358,8 +369,10 @@ class LevelsAccumulator:
             if mx >= thr and mx > 0.0:
                 thr = max(thr, mx * margin)
                 c = np.flatnonzero(ac >= thr)
-                if c.size > 2:
-                    # keep local maxima of |x| (chunk-edge samples are checked later)
+                if c.size > _PREFILTER_CANDIDATES:
+                    # Keep local maxima of |x| (chunk-edge samples are checked later).  Only a
+                    # saving of memory: the interpolation applies the same test to every
+                    # candidate, so a few candidates are passed on as they are.
                     ci = c[(c > 0) & (c < m - 1)]
                     v = ac[ci]
                     ci = ci[(v >= ac[ci - 1]) & (v >= ac[ci + 1])]
