@@ -448,3 +448,20 @@ def test_batch_refuses_a_name_too_long_in_a_sentence(tmp_path):
     msg = _one_sentence(_run("batch", tmp_path / ("b" * 300) / "x.wav", "--out", tmp_path / "t.csv"))
     assert "longer than the file system allows" in msg
     assert not (tmp_path / "t.csv").exists()
+
+
+def test_batch_workers_that_cannot_start_are_said_so(tmp_path, sine, monkeypatch):
+    # As when the fork server cannot run Python: starting a worker ends in a broken pipe, which is
+    # not standard output closing (exit 141 with no word) but a sentence.
+    from voiceband.batch import executors
+
+    class _NoStart:
+        def submit(self, *a):
+            raise BrokenPipeError(32, "Broken pipe")
+
+        def shutdown(self, **kw):
+            pass
+
+    monkeypatch.setattr(executors.LocalPool, "_ensure", lambda self: _NoStart())
+    msg = _one_sentence(_run("batch", sine, "--out", tmp_path / "t.csv", "--workers", 2))
+    assert msg == "voiceband: cannot start the batch's worker processes (broken pipe)."
