@@ -2,7 +2,8 @@
 
 Usage::
 
-    python benchmarks/fuzz_all.py [--cases 10000] [--seed 1] [--workers 2] [--show 5]
+    python benchmarks/fuzz_all.py [--cases 10000] [--seed 1] [--workers 2] [--timeout 120]
+        [--progress 60] [--show 3] [--findings FILE]
 
 Each case runs one command in-process (typer's test runner, one process per worker) with
 arguments drawn from pools of good and bad values: recordings (good, short, empty, text,
@@ -15,14 +16,23 @@ numbers (typical, zero, negative, tiny, huge, NaN, infinite, not a number).
 It prints how many cases ended in
 
 * **results** (exit 0),
-* **clean errors** (non-zero exit with one line on stderr starting ``voiceband:``),
+* **clean errors** (non-zero exit with one line on stderr starting ``voiceband:``; for batch also
+  its one closing line with exit 1, when it ran but some files failed, as documented),
 * **internal errors** (exit 3, a traceback, or an exception escaping the command),
-* **multi-line errors** (non-zero exit with more than one line on stderr; the argument parser's
-  own usage block is counted here and shown apart),
-* **left behind** (a temporary ``.vb-*.part*`` file of ours still present after the case),
+* **multi-line errors** (non-zero exit with more than one line on stderr, or a result with a
+  library's warning on stderr; the argument parser's own usage block is counted here and shown apart),
+* **timeouts** (a case still running after ``--timeout`` seconds: ended, and shown as a finding),
+* **left behind** (a temporary ``.vb-*.part*`` file of ours still present after the case, or
+  anything at all a failed case created: a refused or failed command writes nothing),
 
-per command and in total.  The target is zero internal errors, zero multi-line errors and
-nothing left behind.  Exit status 1 if any internal error or leftover was found.
+per command and in total, with a progress line every ``--progress`` seconds and each finding
+as it happens (``--findings FILE`` keeps them all).  Each case runs in a worker process the
+parent supervises: past ``--timeout`` the worker's alarm ends the case, and a worker stuck
+beyond that (in C code) is killed and replaced, so a hang is a finding, never a stalled run.
+Stopped with Ctrl-C or SIGTERM, it prints the counts of the cases finished so far.
+
+The target is zero internal errors, zero multi-line errors, no timeouts and nothing left
+behind.  Exit status 1 if any was found.
 """
 
 from __future__ import annotations
@@ -331,7 +341,8 @@ def _classify(res, code: int, cmd: str = "") -> str:
     if code == 3 or "Traceback" in err or "Traceback" in out or "internal error" in err:
         return "internal"
     if code == 0:
-        return "result"
+        # a result with a library's warning (or any traceback-like text) on stderr is noise a user should not see
+        return "multiline" if re.search(r"\b\w*Warning: |^\s+File \"", err, re.M) else "result"
     lines = [ln for ln in err.splitlines() if ln.strip()]
     if len(lines) == 1 and lines[0].startswith("voiceband: "):
         return "clean"

@@ -465,3 +465,21 @@ def test_batch_workers_that_cannot_start_are_said_so(tmp_path, sine, monkeypatch
     monkeypatch.setattr(executors.LocalPool, "_ensure", lambda self: _NoStart())
     msg = _one_sentence(_run("batch", sine, "--out", tmp_path / "t.csv", "--workers", 2))
     assert msg == "voiceband: cannot start the batch's worker processes (broken pipe)."
+
+
+def test_report_pages_name_a_file_that_is_not_utf8_with_replacement_marks(tmp_path, sine):
+    weird = _not_utf8(tmp_path, sine)
+    out = tmp_path / "rep"
+    res = _run("report", weird, "--out", out)
+    assert res.exit_code == 0, res.stderr
+    for name in ("index.html", "summary.md", "analysis.json"):
+        text = (out / name).read_bytes().decode("utf-8")  # strict: valid UTF-8
+        assert "take\ufffd\ufffd.wav" in text or "take\\ufffd\\ufffd.wav" in text, name
+
+
+def test_report_of_a_take_without_speech_prints_no_library_warnings(tmp_path, sine):
+    # A plain tone has no speech, so its intelligibility figures have nothing labelled: no legend, and no
+    # matplotlib warning on stderr even with VOICEBAND_DEBUG=1 (which lets library warnings through).
+    p = _cli("report", sine, "--out", tmp_path / "rep", env={**os.environ, "VOICEBAND_DEBUG": "1", "MPLBACKEND": "Agg"})
+    assert p.returncode == 0, p.stderr
+    assert p.stderr.decode() == ""

@@ -180,8 +180,9 @@ def guarded(fn: Optional[Callable[..., Any]] = None, *, options: Optional[Mappin
         try:
             with warnings.catch_warnings():
                 if not os.environ.get("VOICEBAND_DEBUG"):
-                    # numpy's overflow notes are not for users: the result or our sentence says what matters
-                    warnings.simplefilter("ignore", RuntimeWarning)
+                    # the libraries' notes (numpy's overflow, matplotlib's) are not for users: the result
+                    # or our sentence says what matters, in one line
+                    warnings.simplefilter("ignore")
                 rv = fn(*args, **kwargs)
             sys.stdout.flush()  # a closed pipe shows here, not at the interpreter's last flush
             return rv
