@@ -365,7 +365,31 @@ def _leftovers(out: Path, inp: Path, before_in: set[str], failed: bool) -> list[
     return left
 
 
-def _run_one(runner, app, files: dict, root: Path, seed: int, i: int, timeout_s: float, conn) -> dict:
+class _ProcessResult:
+    def __init__(self, code: int, stdout: bytes, stderr: bytes):
+        self.exit_code = code
+        self.stdout = stdout.decode("utf-8", "backslashreplace")
+        self.stderr = stderr.decode("utf-8", "backslashreplace")
+        self.exception = None
+
+
+def _run_process(args: list, timeout_s: float):
+    """The case as a user runs it: its own process, real stderr (worker processes' too), the interpreter's exit."""
+    import subprocess
+
+    p = subprocess.Popen([sys.executable, "-m", "voiceband.cli.main", *map(str, args)], stdin=subprocess.DEVNULL,
+                         stdout=subprocess.PIPE, stderr=subprocess.PIPE, start_new_session=True)
+    try:
+        out, err = p.communicate(timeout=timeout_s)
+    except subprocess.TimeoutExpired:
+        os.killpg(p.pid, signal.SIGKILL)
+        p.communicate()
+        return None
+    return _ProcessResult(p.returncode, out, err)
+
+
+def _run_one(runner, app, files: dict, root: Path, seed: int, i: int, timeout_s: float, conn,
+             real_share: float = 0.0) -> dict:
     rng = random.Random(seed * 1_000_003 + i)
     out = root / f"out{i}"
     out.mkdir()
@@ -376,11 +400,12 @@ def _run_one(runner, app, files: dict, root: Path, seed: int, i: int, timeout_s:
     args = getattr(case, cmd)()
     conn.send(("start", i, cmd, [os.fsencode(str(a)).decode("utf-8", "backslashreplace") for a in args]))
     t0 = time.perf_counter()
-    signal.alarm(max(1, int(timeout_s)))
+    real = random.Random(seed * 7_919 + i).random() < real_share
+    signal.alarm(max(1, int(timeout_s)) + (5 if real else 0))
     try:
-        res = runner.invoke(app, args)
-        kind = _classify(res, res.exit_code, cmd)
-        code = res.exit_code
+        res = _run_process(args, timeout_s) if real else runner.invoke(app, args)
+        kind = "timeout" if res is None else _classify(res, res.exit_code, cmd)
+        code = None if res is None else res.exit_code
     except _Timeout:
         res, kind, code = None, "timeout", None
     finally:
@@ -401,11 +426,11 @@ def _run_one(runner, app, files: dict, root: Path, seed: int, i: int, timeout_s:
     for x in left:
         (shutil.rmtree if os.path.isdir(x) and not os.path.islink(x) else os.unlink)(x)
     shutil.rmtree(out, ignore_errors=True)
-    return {"i": i, "cmd": cmd, "kind": kind, "left": len(left), "text": text.strip(), "code": code,
-            "seconds": time.perf_counter() - t0}
+    return {"i": i, "cmd": cmd, "kind": kind, "left": len(left), "text": ("[own process] " if real else "") + text.strip(),
+            "code": code, "seconds": time.perf_counter() - t0, "real": real}
 
 
-def _worker_main(conn, seed: int, timeout_s: float) -> None:
+def _worker_main(conn, seed: int, timeout_s: float, real_share: float) -> None:
     """One worker process: its own process group (so the parent can end it and any pool it started),
     its own files; runs the case numbers the parent sends, one at a time."""
     os.setpgrp()
@@ -428,7 +453,7 @@ def _worker_main(conn, seed: int, timeout_s: float) -> None:
             if i is None:
                 break
             signal.signal(signal.SIGALRM, alarm)
-            r = _run_one(runner, app, files, root, seed, i, timeout_s, conn)
+            r = _run_one(runner, app, files, root, seed, i, timeout_s, conn, real_share)
             # the commands install SIGTERM/SIGHUP handlers in this process; the parent ends it with SIGKILL
             conn.send(("done", r))
     finally:
@@ -439,10 +464,10 @@ def _worker_main(conn, seed: int, timeout_s: float) -> None:
 class _Slot:
     """A worker process seen from the parent: the case it runs and since when."""
 
-    def __init__(self, ctx, seed: int, timeout_s: float):
+    def __init__(self, ctx, seed: int, timeout_s: float, real_share: float):
         self.conn, child = ctx.Pipe()
         # not a daemon: a batch case starts a process pool of its own
-        self.proc = ctx.Process(target=_worker_main, args=(child, seed, timeout_s))
+        self.proc = ctx.Process(target=_worker_main, args=(child, seed, timeout_s, real_share))
         self.proc.start()
         child.close()
         self.case = None  # (i, cmd, args)
@@ -472,6 +497,7 @@ class _Tally:
         self.show = show
         self.findings = open(findings, "a", encoding="utf-8") if findings else None
         self.seconds: dict = collections.defaultdict(float)
+        self.real = 0
 
     def add(self, cmd: str, kind: str, left: int, args: list, text: str, seconds: float) -> None:
         self.counts[cmd][kind] += 1
@@ -511,7 +537,8 @@ class _Tally:
         print(f"{n} cases in {wall_s:.0f} s ({n / max(wall_s, 1e-9) * 60:.1f} cases/min); results {g['result']}, "
               f"clean errors {g['clean']}, internal errors {g['internal']}, multi-line errors "
               f"{g['multiline'] + g['usage']} (of which the argument parser's usage block {g['usage']}), "
-              f"timeouts {g['timeout']}, left behind {g['left_behind']}", flush=True)
+              f"timeouts {g['timeout']}, left behind {g['left_behind']}; {self.real} of the cases ran as their own "
+              f"process", flush=True)
 
 
 def main() -> int:
@@ -524,6 +551,8 @@ def main() -> int:
     ap.add_argument("--progress", type=float, default=60.0, help="seconds between progress lines")
     ap.add_argument("--show", type=int, default=3, help="findings printed per kind as they happen")
     ap.add_argument("--findings", type=Path, help="append every finding to this JSON Lines file")
+    ap.add_argument("--real", type=float, default=0.03,
+                    help="share of cases run as their own process (real stderr of the command and its workers)")
     a = ap.parse_args()
     import multiprocessing as mp
     from multiprocessing.connection import wait
@@ -531,7 +560,7 @@ def main() -> int:
     ctx = mp.get_context("spawn")
     tally = _Tally(a.show, a.findings)
     todo = collections.deque(range(a.start, a.start + a.cases))
-    slots = [_Slot(ctx, a.seed, a.timeout) for _ in range(min(a.workers, a.cases))]
+    slots = [_Slot(ctx, a.seed, a.timeout, a.real) for _ in range(min(a.workers, a.cases))]
     t0 = time.monotonic()
     next_progress = t0 + a.progress
     hard_s = a.timeout + 30.0  # the worker's own alarm should fire first; this ends a case stuck in C code
@@ -550,12 +579,12 @@ def main() -> int:
                     i, cmd, args = s.case
                     tally.add(cmd, "timeout", 0, args, f"killed after {now - s.since:.0f} s (stuck past the alarm)", now - s.since)
                     s.kill()
-                    slots[slots.index(s)] = _Slot(ctx, a.seed, a.timeout)
+                    slots[slots.index(s)] = _Slot(ctx, a.seed, a.timeout, a.real)
                 elif not s.proc.is_alive() and s.case is not None:
                     i, cmd, args = s.case
                     tally.add(cmd, "internal", 0, args, f"worker died (exit {s.proc.exitcode})", now - s.since)
                     s.kill()
-                    slots[slots.index(s)] = _Slot(ctx, a.seed, a.timeout)
+                    slots[slots.index(s)] = _Slot(ctx, a.seed, a.timeout, a.real)
             for s in wait([s.conn for s in slots] + [s.proc.sentinel for s in slots], timeout=5.0):
                 slot = next((x for x in slots if x.conn is s), None)
                 if slot is None:
@@ -573,6 +602,7 @@ def main() -> int:
                 if msg[0] == "done":
                     r = msg[1]
                     tally.add(r["cmd"], r["kind"], r["left"], slot.case[2], r["text"], r["seconds"])
+                    tally.real += r["real"]
                     slot.case = None
                 if todo:
                     slot.conn.send(todo.popleft())
@@ -588,7 +618,7 @@ def main() -> int:
                         raise RuntimeError("workers keep dying before any case; run with --workers 1 to see why")
                     # died between cases or while starting: start again (its case, if any, was counted)
                     s.kill()
-                    slots[slots.index(s)] = _Slot(ctx, a.seed, a.timeout)
+                    slots[slots.index(s)] = _Slot(ctx, a.seed, a.timeout, a.real)
             if time.monotonic() >= next_progress:
                 next_progress += a.progress
                 g = tally.grand()
