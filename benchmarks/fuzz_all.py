@@ -2,7 +2,8 @@
 
 Usage::
 
-    python benchmarks/fuzz_all.py [--cases 10000] [--seed 1] [--workers 2] [--show 5]
+    python benchmarks/fuzz_all.py [--cases 10000] [--seed 1] [--workers 2] [--timeout 120]
+        [--progress 60] [--show 3] [--findings FILE]
 
 Each case runs one command in-process (typer's test runner, one process per worker) with
 arguments drawn from pools of good and bad values: recordings (good, short, empty, text,
@@ -15,14 +16,23 @@ numbers (typical, zero, negative, tiny, huge, NaN, infinite, not a number).
 It prints how many cases ended in
 
 * **results** (exit 0),
-* **clean errors** (non-zero exit with one line on stderr starting ``voiceband:``),
+* **clean errors** (non-zero exit with one line on stderr starting ``voiceband:``; for batch also
+  its one closing line with exit 1, when it ran but some files failed, as documented),
 * **internal errors** (exit 3, a traceback, or an exception escaping the command),
-* **multi-line errors** (non-zero exit with more than one line on stderr; the argument parser's
-  own usage block is counted here and shown apart),
-* **left behind** (a temporary ``.vb-*.part*`` file of ours still present after the case),
+* **multi-line errors** (non-zero exit with more than one line on stderr, or a result with a
+  library's warning on stderr; the argument parser's own usage block is counted here and shown apart),
+* **timeouts** (a case still running after ``--timeout`` seconds: ended, and shown as a finding),
+* **left behind** (a temporary ``.vb-*.part*`` file of ours still present after the case, or
+  anything at all a failed case created: a refused or failed command writes nothing),
 
-per command and in total.  The target is zero internal errors, zero multi-line errors and
-nothing left behind.  Exit status 1 if any internal error or leftover was found.
+per command and in total, with a progress line every ``--progress`` seconds and each finding
+as it happens (``--findings FILE`` keeps them all).  Each case runs in a worker process the
+parent supervises: past ``--timeout`` the worker's alarm ends the case, and a worker stuck
+beyond that (in C code) is killed and replaced, so a hang is a finding, never a stalled run.
+Stopped with Ctrl-C or SIGTERM, it prints the counts of the cases finished so far.
+
+The target is zero internal errors, zero multi-line errors, no timeouts and nothing left
+behind.  Exit status 1 if any was found.
 """
 
 from __future__ import annotations
@@ -32,6 +42,7 @@ import collections
 import json
 import os
 import random
+import re
 import shutil
 import signal
 import socket
@@ -318,7 +329,11 @@ _WEIGHTS = {"analyze": 3, "response": 2, "testsignal": 3, "synth": 1.5, "chain":
             "report": 0.8, "demo": 0.2, "batch": 1.0}
 
 
-def _classify(res, code: int) -> str:
+#: batch's closing line when it ran but some files failed (exit 1, documented): a result, not an error
+_BATCH_SUMMARY = re.compile(r"^\d+ files: .*; rows in '.*'\.$")
+
+
+def _classify(res, code: int, cmd: str = "") -> str:
     err = (res.stderr if hasattr(res, "stderr") else "") or ""
     out = res.stdout or ""
     if res.exception is not None and not isinstance(res.exception, SystemExit):
@@ -326,112 +341,302 @@ def _classify(res, code: int) -> str:
     if code == 3 or "Traceback" in err or "Traceback" in out or "internal error" in err:
         return "internal"
     if code == 0:
-        return "result"
+        # a result with a library's warning (or any traceback-like text) on stderr is noise a user should not see
+        return "multiline" if re.search(r"\b\w*Warning: |^\s+File \"", err, re.M) else "result"
     lines = [ln for ln in err.splitlines() if ln.strip()]
     if len(lines) == 1 and lines[0].startswith("voiceband: "):
+        return "clean"
+    if cmd == "batch" and code == 1 and len(lines) == 1 and _BATCH_SUMMARY.match(lines[0]):
         return "clean"
     return "usage" if "Usage:" in err else "multiline"
 
 
-def _worker(job: tuple[int, int, int]) -> dict:
-    seed, start, count = job
+def _leftovers(out: Path, inp: Path, before_in: set[str], failed: bool) -> list[str]:
+    """What a case left behind: temporaries of ours anywhere it could write; after a failure, any new
+    file or folder at all (a refused or failed command writes nothing, not even an empty folder)."""
+    left = []
+    for d in (out, inp, out / "newdir"):
+        if d.is_dir():
+            left += [str(p) for p in d.iterdir() if p.name.startswith(".vb-")]
+    if failed:
+        if out.is_dir():
+            left += [str(p) for p in out.iterdir() if not p.name.startswith(".vb-")]
+        left += [str(inp / n) for n in set(os.listdir(inp)) - before_in if not n.startswith(".vb-")]
+    return left
+
+
+class _ProcessResult:
+    def __init__(self, code: int, stdout: bytes, stderr: bytes):
+        self.exit_code = code
+        self.stdout = stdout.decode("utf-8", "backslashreplace")
+        self.stderr = stderr.decode("utf-8", "backslashreplace")
+        self.exception = None
+
+
+def _run_process(args: list, timeout_s: float):
+    """The case as a user runs it: its own process, real stderr (worker processes' too), the interpreter's exit."""
+    import subprocess
+
+    p = subprocess.Popen([sys.executable, "-m", "voiceband.cli.main", *map(str, args)], stdin=subprocess.DEVNULL,
+                         stdout=subprocess.PIPE, stderr=subprocess.PIPE, start_new_session=True)
+    try:
+        out, err = p.communicate(timeout=timeout_s)
+    except subprocess.TimeoutExpired:
+        os.killpg(p.pid, signal.SIGKILL)
+        p.communicate()
+        return None
+    return _ProcessResult(p.returncode, out, err)
+
+
+def _run_one(runner, app, files: dict, root: Path, seed: int, i: int, timeout_s: float, conn,
+             real_share: float = 0.0) -> dict:
+    rng = random.Random(seed * 1_000_003 + i)
+    out = root / f"out{i}"
+    out.mkdir()
+    inp = root / "in"
+    before_in = set(os.listdir(inp))
+    case = _Case(rng, files, out)
+    cmd = rng.choices(list(_WEIGHTS), weights=list(_WEIGHTS.values()))[0]
+    args = getattr(case, cmd)()
+    conn.send(("start", i, cmd, [os.fsencode(str(a)).decode("utf-8", "backslashreplace") for a in args]))
+    t0 = time.perf_counter()
+    real = random.Random(seed * 7_919 + i).random() < real_share
+    signal.alarm(max(1, int(timeout_s)) + (5 if real else 0))
+    try:
+        res = _run_process(args, timeout_s) if real else runner.invoke(app, args)
+        kind = "timeout" if res is None else _classify(res, res.exit_code, cmd)
+        code = None if res is None else res.exit_code
+    except _Timeout:
+        res, kind, code = None, "timeout", None
+    finally:
+        signal.alarm(0)
+    failed = kind != "result"
+    if cmd == "batch" and code == 1:
+        failed = False  # some files failed, the table of the others was written (documented)
+    left = _leftovers(out, inp, before_in, failed)
+    if res is None:
+        text = f"no end after {timeout_s:.0f} s"
+    elif kind in ("internal", "multiline", "usage"):
+        text = (res.stderr or "")[-600:] + (
+            repr(res.exception) if res.exception and not isinstance(res.exception, SystemExit) else "")
+    else:
+        text = ""
+    if left:
+        text += "\nleft behind: " + ", ".join(os.path.relpath(x, root) for x in left[:5])
+    for x in left:
+        (shutil.rmtree if os.path.isdir(x) and not os.path.islink(x) else os.unlink)(x)
+    shutil.rmtree(out, ignore_errors=True)
+    return {"i": i, "cmd": cmd, "kind": kind, "left": len(left), "text": ("[own process] " if real else "") + text.strip(),
+            "code": code, "seconds": time.perf_counter() - t0, "real": real}
+
+
+def _worker_main(conn, seed: int, timeout_s: float, real_share: float) -> None:
+    """One worker process: its own process group (so the parent can end it and any pool it started),
+    its own files; runs the case numbers the parent sends, one at a time."""
+    os.setpgrp()
     os.environ.setdefault("MPLBACKEND", "Agg")
     from typer.testing import CliRunner
 
     from voiceband.cli.main import app
 
+    def alarm(_s, _f):
+        raise _Timeout()
+
     root = Path(tempfile.mkdtemp(prefix="vbfuzz-"))
-    cwd = os.getcwd()
     try:
         files = _make_files(root)
         os.chdir(root / "in")  # relative names ("-", "./-lead.wav", ".") resolve here
         runner = CliRunner()
-        counts: dict = collections.defaultdict(collections.Counter)
-        examples: dict = collections.defaultdict(list)
-        leftovers = 0
-
-        def alarm(_s, _f):
-            raise _Timeout()
-
-        signal.signal(signal.SIGALRM, alarm)
-        for i in range(start, start + count):
-            rng = random.Random(seed * 1_000_003 + i)
-            out = root / f"out{i}"
-            out.mkdir()
-            case = _Case(rng, files, out)
-            cmd = rng.choices(list(_WEIGHTS), weights=list(_WEIGHTS.values()))[0]
-            args = getattr(case, cmd)()
-            signal.alarm(_TIMEOUT_S)
-            try:
-                res = runner.invoke(app, args)
-                kind = _classify(res, res.exit_code)
-            except _Timeout:
-                res, kind = None, "internal"
-            finally:
-                signal.alarm(0)
-            counts[cmd][kind] += 1
-            if kind in ("internal", "multiline", "usage") and len(examples[kind]) < 8:
-                text = "timeout" if res is None else (res.stderr or "")[-400:] + (
-                    repr(res.exception) if res.exception and not isinstance(res.exception, SystemExit) else "")
-                examples[kind].append((args, text))
-            for d in (out, root / "in", out / "newdir"):
-                if d.is_dir():
-                    left = [p.name for p in d.iterdir() if p.name.startswith(".vb-")]
-                    if left:
-                        leftovers += len(left)
-                        counts[cmd]["left_behind"] += len(left)
-                        for n in left:
-                            (d / n).unlink()
-            shutil.rmtree(out, ignore_errors=True)
-        return {"counts": {k: dict(v) for k, v in counts.items()}, "examples": dict(examples), "leftovers": leftovers}
+        conn.send(("ready", str(root)))
+        while True:
+            i = conn.recv()
+            if i is None:
+                break
+            signal.signal(signal.SIGALRM, alarm)
+            r = _run_one(runner, app, files, root, seed, i, timeout_s, conn, real_share)
+            # the commands install SIGTERM/SIGHUP handlers in this process; the parent ends it with SIGKILL
+            conn.send(("done", r))
     finally:
-        # the commands installed their SIGTERM/SIGHUP handlers in this worker; the pool ends it with SIGTERM
-        signal.signal(signal.SIGTERM, signal.SIG_DFL)
-        os.chdir(cwd)
+        os.chdir("/")
         shutil.rmtree(root, ignore_errors=True)
+
+
+class _Slot:
+    """A worker process seen from the parent: the case it runs and since when."""
+
+    def __init__(self, ctx, seed: int, timeout_s: float, real_share: float):
+        self.conn, child = ctx.Pipe()
+        # not a daemon: a batch case starts a process pool of its own
+        self.proc = ctx.Process(target=_worker_main, args=(child, seed, timeout_s, real_share))
+        self.proc.start()
+        child.close()
+        self.case = None  # (i, cmd, args)
+        self.since = time.monotonic()
+        self.root = ""
+
+    def kill(self) -> None:
+        try:
+            os.killpg(self.proc.pid, signal.SIGKILL)
+        except (ProcessLookupError, PermissionError):
+            pass
+        self.proc.join(5)
+        try:
+            self.conn.close()
+        except OSError:
+            pass
+        if self.root:  # a killed worker cannot remove its own files
+            shutil.rmtree(self.root, ignore_errors=True)
+
+
+class _Tally:
+    KINDS = ["result", "clean", "internal", "multiline", "usage", "timeout", "left_behind"]
+
+    def __init__(self, show: int, findings: Path | None):
+        self.counts: dict = collections.defaultdict(collections.Counter)
+        self.shown: collections.Counter = collections.Counter()
+        self.show = show
+        self.findings = open(findings, "a", encoding="utf-8") if findings else None
+        self.seconds: dict = collections.defaultdict(float)
+        self.real = 0
+
+    def add(self, cmd: str, kind: str, left: int, args: list, text: str, seconds: float) -> None:
+        self.counts[cmd][kind] += 1
+        self.counts[cmd]["left_behind"] += left
+        self.seconds[cmd] += seconds
+        bad = kind in ("internal", "multiline", "usage", "timeout") or left
+        if not bad:
+            return
+        tag = kind if kind not in ("result", "clean") else "left_behind"
+        rec = {"kind": tag, "command": cmd, "args": args, "text": text}
+        if self.findings:
+            self.findings.write(json.dumps(rec) + "\n")
+            self.findings.flush()
+        if self.shown[tag] < self.show:
+            self.shown[tag] += 1
+            print(f"--- {tag}: voiceband {' '.join(args)}\n{text}", flush=True)
+
+    def done(self) -> int:
+        return sum(c[k] for c in self.counts.values() for k in self.KINDS[:6])
+
+    def grand(self) -> collections.Counter:
+        g = collections.Counter()
+        for c in self.counts.values():
+            g.update(c)
+        return g
+
+    def table(self, wall_s: float) -> None:
+        kinds = self.KINDS
+        print(f"{'command':12s}" + "".join(f"{k:>12s}" for k in kinds) + f"{'cases':>8s}{'s/case':>8s}")
+        for cmd in sorted(self.counts):
+            c = self.counts[cmd]
+            n = sum(c[k] for k in kinds[:6])
+            print(f"{cmd:12s}" + "".join(f"{c[k]:12d}" for k in kinds) + f"{n:8d}{self.seconds[cmd] / max(n, 1):8.2f}")
+        g = self.grand()
+        n = self.done()
+        print(f"{'all':12s}" + "".join(f"{g[k]:12d}" for k in kinds) + f"{n:8d}{sum(self.seconds.values()) / max(n, 1):8.2f}")
+        print(f"{n} cases in {wall_s:.0f} s ({n / max(wall_s, 1e-9) * 60:.1f} cases/min); results {g['result']}, "
+              f"clean errors {g['clean']}, internal errors {g['internal']}, multi-line errors "
+              f"{g['multiline'] + g['usage']} (of which the argument parser's usage block {g['usage']}), "
+              f"timeouts {g['timeout']}, left behind {g['left_behind']}; {self.real} of the cases ran as their own "
+              f"process", flush=True)
 
 
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--cases", type=int, default=10000)
     ap.add_argument("--seed", type=int, default=1)
+    ap.add_argument("--start", type=int, default=0, help="first case number (to rerun a part of a run)")
     ap.add_argument("--workers", type=int, default=2)
-    ap.add_argument("--show", type=int, default=3, help="examples shown per failure kind")
+    ap.add_argument("--timeout", type=float, default=_TIMEOUT_S, help="seconds one case may take (then a finding)")
+    ap.add_argument("--progress", type=float, default=60.0, help="seconds between progress lines")
+    ap.add_argument("--show", type=int, default=3, help="findings printed per kind as they happen")
+    ap.add_argument("--findings", type=Path, help="append every finding to this JSON Lines file")
+    ap.add_argument("--real", type=float, default=0.03,
+                    help="share of cases run as their own process (real stderr of the command and its workers)")
     a = ap.parse_args()
-    per = -(-a.cases // a.workers)
-    jobs = [(a.seed, w * per, min(per, a.cases - w * per)) for w in range(a.workers) if a.cases - w * per > 0]
-    t0 = time.perf_counter()
-    if a.workers == 1:
-        results = [_worker(jobs[0])]
-    else:
-        import multiprocessing as mp
+    import multiprocessing as mp
+    from multiprocessing.connection import wait
 
-        with mp.get_context("spawn").Pool(a.workers) as pool:
-            results = pool.map(_worker, jobs)
-    total: dict = collections.defaultdict(collections.Counter)
-    examples: dict = collections.defaultdict(list)
-    for r in results:
-        for cmd, c in r["counts"].items():
-            total[cmd].update(c)
-        for k, v in r["examples"].items():
-            examples[k].extend(v)
-    kinds = ["result", "clean", "internal", "multiline", "usage", "left_behind"]
-    print(f"{'command':12s}" + "".join(f"{k:>13s}" for k in kinds) + f"{'cases':>8s}")
-    grand = collections.Counter()
-    for cmd in sorted(total):
-        c = total[cmd]
-        grand.update(c)
-        n = sum(c[k] for k in kinds[:5])
-        print(f"{cmd:12s}" + "".join(f"{c[k]:13d}" for k in kinds) + f"{n:8d}")
-    n = sum(grand[k] for k in kinds[:5])
-    print(f"{'all':12s}" + "".join(f"{grand[k]:13d}" for k in kinds) + f"{n:8d}")
-    print(f"{n} cases in {time.perf_counter() - t0:.0f} s; results {grand['result']}, clean errors {grand['clean']}, "
-          f"internal errors {grand['internal']}, multi-line errors {grand['multiline'] + grand['usage']} "
-          f"(of which the argument parser's usage block {grand['usage']}), left behind {grand['left_behind']}")
-    for k in ("internal", "multiline", "usage"):
-        for args, text in examples.get(k, [])[: a.show]:
-            print(f"--- {k}: voiceband {' '.join(map(str, args))}\n{text.strip()}")
-    return 1 if grand["internal"] or grand["left_behind"] else 0
+    ctx = mp.get_context("spawn")
+    tally = _Tally(a.show, a.findings)
+    todo = collections.deque(range(a.start, a.start + a.cases))
+    slots = [_Slot(ctx, a.seed, a.timeout, a.real) for _ in range(min(a.workers, a.cases))]
+    t0 = time.monotonic()
+    next_progress = t0 + a.progress
+    hard_s = a.timeout + 30.0  # the worker's own alarm should fire first; this ends a case stuck in C code
+
+    def stop(_s, _f):
+        raise KeyboardInterrupt
+
+    signal.signal(signal.SIGTERM, stop)
+    stopped = False
+    restarts = 0
+    try:
+        while slots:
+            now = time.monotonic()
+            for k, s in enumerate(list(slots)):
+                if s.case is not None and now - s.since > hard_s:
+                    i, cmd, args = s.case
+                    tally.add(cmd, "timeout", 0, args, f"killed after {now - s.since:.0f} s (stuck past the alarm)", now - s.since)
+                    s.kill()
+                    slots[slots.index(s)] = _Slot(ctx, a.seed, a.timeout, a.real)
+                elif not s.proc.is_alive() and s.case is not None:
+                    i, cmd, args = s.case
+                    tally.add(cmd, "internal", 0, args, f"worker died (exit {s.proc.exitcode})", now - s.since)
+                    s.kill()
+                    slots[slots.index(s)] = _Slot(ctx, a.seed, a.timeout, a.real)
+            for s in wait([s.conn for s in slots] + [s.proc.sentinel for s in slots], timeout=5.0):
+                slot = next((x for x in slots if x.conn is s), None)
+                if slot is None:
+                    continue
+                try:
+                    msg = slot.conn.recv()
+                except (EOFError, OSError):
+                    continue  # died: handled above on the next turn
+                if msg[0] == "ready":
+                    slot.root = msg[1]
+                if msg[0] == "start":
+                    slot.case = (msg[1], msg[2], msg[3])
+                    slot.since = time.monotonic()
+                    continue
+                if msg[0] == "done":
+                    r = msg[1]
+                    tally.add(r["cmd"], r["kind"], r["left"], slot.case[2], r["text"], r["seconds"])
+                    tally.real += r["real"]
+                    slot.case = None
+                if todo:
+                    slot.conn.send(todo.popleft())
+                    slot.since = time.monotonic()
+                else:
+                    slot.conn.send(None)
+                    slot.proc.join(30)
+                    slots.remove(slot)
+            for s in list(slots):
+                if not s.proc.is_alive() and s.case is None:
+                    restarts += 1
+                    if restarts > 50:
+                        raise RuntimeError("workers keep dying before any case; run with --workers 1 to see why")
+                    # died between cases or while starting: start again (its case, if any, was counted)
+                    s.kill()
+                    slots[slots.index(s)] = _Slot(ctx, a.seed, a.timeout, a.real)
+            if time.monotonic() >= next_progress:
+                next_progress += a.progress
+                g = tally.grand()
+                n = tally.done()
+                el = time.monotonic() - t0
+                print(f"[{el:6.0f} s] {n}/{a.cases} cases ({n / max(el, 1e-9) * 60:.1f}/min): internal {g['internal']}, "
+                      f"multi-line {g['multiline'] + g['usage']}, timeouts {g['timeout']}, left behind {g['left_behind']}",
+                      flush=True)
+    except KeyboardInterrupt:
+        stopped = True
+        print("stopped: counts of the cases finished so far", flush=True)
+        for s in slots:
+            s.kill()
+    tally.table(time.monotonic() - t0)
+    g = tally.grand()
+    if stopped:
+        return 130
+    return 1 if g["internal"] or g["left_behind"] or g["timeout"] or g["multiline"] or g["usage"] else 0
 
 
 if __name__ == "__main__":

@@ -153,3 +153,13 @@ def test_csv_resume_reads_back_a_path_with_quotes_and_a_newline(tmp_path):
 
     with open(p, newline="") as f:
         assert [r["path"] for r in csv.DictReader(f)] == ['we"ird\nname.wav', "f5.wav", "plain.wav"]
+
+
+def test_batch_output_is_an_abstract_base_every_format_completes(tmp_path):
+    from voiceband.batch.writers import BatchOutput, _CsvOutput, _JsonlOutput, _ParquetOutput
+
+    with pytest.raises(TypeError, match="abstract"):
+        BatchOutput(tmp_path / "x.csv", ("path",), {"path": "string"})
+    assert BatchOutput.__abstractmethods__ == {"open", "_append", "_read_back"}
+    for cls in (_CsvOutput, _JsonlOutput, _ParquetOutput):
+        assert not cls.__abstractmethods__, cls

@@ -272,7 +272,7 @@ def test_synth_validates_every_spec_before_writing(tmp_path):
         bad = tmp_path / "bad.toml"
         bad.write_text(spec.format(o="bad.wav", stage=stage))
         assert phrase in _one_sentence(_run("synth", "--out", out, good, bad))
-        assert not out.exists() or not any(out.iterdir())
+        assert not out.exists()  # not even the empty folder it would have made
 
 
 def test_testsignal_checks_every_parameter_first(tmp_path):
@@ -377,3 +377,109 @@ def test_full_disk_says_so_and_leaves_nothing(tmp_path):
     finally:
         if undo:
             undo()
+
+
+def test_a_failed_output_removes_the_folders_it_made_and_only_those(tmp_path):
+    from voiceband.outputs import atomic_output
+
+    (tmp_path / "kept").mkdir()
+    dest = tmp_path / "kept" / "new" / "deeper" / "x.txt"
+    with pytest.raises(RuntimeError):
+        with atomic_output(dest, make_folders=True) as tmp:
+            tmp.write_text("half")
+            raise RuntimeError("the work failed")
+    assert sorted(os.listdir(tmp_path)) == ["kept"] and os.listdir(tmp_path / "kept") == []
+    with atomic_output(dest, make_folders=True) as tmp:  # on success the folders stay
+        tmp.write_text("whole")
+    assert dest.read_text() == "whole"
+
+
+def test_a_made_folder_that_is_no_longer_empty_is_kept(tmp_path):
+    from voiceband.outputs import atomic_output
+
+    dest = tmp_path / "new" / "x.txt"
+    with pytest.raises(RuntimeError):
+        with atomic_output(dest, make_folders=True):
+            (tmp_path / "new" / "someone-else.txt").write_text("theirs")
+            raise RuntimeError("the work failed")
+    assert os.listdir(tmp_path / "new") == ["someone-else.txt"]
+
+
+def _not_utf8(folder: Path, sine: Path) -> Path:
+    p = Path(os.fsdecode(bytes(folder) + b"/take\xff\xfe.wav"))
+    p.write_bytes(sine.read_bytes())
+    return p
+
+
+def test_names_that_are_not_utf8_are_written_as_valid_utf8(tmp_path, sine):
+    from voiceband.outputs import name_text
+
+    assert name_text(os.fsdecode(b"a\xffb.wav")) == "a\ufffdb.wav"
+    assert name_text(b"caf\xc3\xa9.wav") == "caf\u00e9.wav"  # UTF-8 names stay as they are
+    weird = _not_utf8(tmp_path, sine)
+    res = _run("analyze", weird, "--json", "-")
+    assert res.exit_code == 0, res.stderr
+    assert "\\udc" not in res.stdout  # no lone-surrogate escapes
+    assert json.loads(res.stdout)["input"]["path"].endswith("/take\ufffd\ufffd.wav")
+    for suffix in (".csv", ".jsonl"):
+        out = tmp_path / f"t{suffix}"
+        res = _run("batch", weird, "--out", out, "--workers", 1)
+        assert res.exit_code == 0, res.stderr
+        raw = out.read_bytes()
+        text = raw.decode("utf-8")  # strict: the table is valid UTF-8
+        assert "\\udc" not in text
+        path = (json.loads(text)["path"] if suffix == ".jsonl" else text.splitlines()[1].split(",")[0])
+        assert path.endswith("/take\ufffd\ufffd.wav")
+        # resuming recognises the row written with U+FFFD as this file's
+        res = _run("batch", weird, "--out", out, "--resume", "--workers", 1)
+        assert res.exit_code == 0 and "1 already recorded" in res.stderr, res.stderr
+        assert out.read_bytes() == raw
+
+
+def test_names_that_are_not_utf8_show_as_replacement_marks_on_the_terminal(tmp_path, sine):
+    missing = os.fsencode(tmp_path) + b"/gone\xff.wav"
+    p = subprocess.run([sys.executable, "-m", "voiceband.cli.main", "analyze", missing], capture_output=True, timeout=60,
+                       env={**os.environ, "PYTHONIOENCODING": "utf-8"})
+    assert p.returncode == 2
+    assert p.stderr.decode("utf-8").strip() == f"voiceband: No such file: '{tmp_path}/gone\ufffd.wav'."
+
+
+def test_batch_refuses_a_name_too_long_in_a_sentence(tmp_path):
+    msg = _one_sentence(_run("batch", tmp_path / ("b" * 300) / "x.wav", "--out", tmp_path / "t.csv"))
+    assert "longer than the file system allows" in msg
+    assert not (tmp_path / "t.csv").exists()
+
+
+def test_batch_workers_that_cannot_start_are_said_so(tmp_path, sine, monkeypatch):
+    # As when the fork server cannot run Python: starting a worker ends in a broken pipe, which is
+    # not standard output closing (exit 141 with no word) but a sentence.
+    from voiceband.batch import executors
+
+    class _NoStart:
+        def submit(self, *a):
+            raise BrokenPipeError(32, "Broken pipe")
+
+        def shutdown(self, **kw):
+            pass
+
+    monkeypatch.setattr(executors.LocalPool, "_ensure", lambda self: _NoStart())
+    msg = _one_sentence(_run("batch", sine, "--out", tmp_path / "t.csv", "--workers", 2))
+    assert msg == "voiceband: cannot start the batch's worker processes (broken pipe)."
+
+
+def test_report_pages_name_a_file_that_is_not_utf8_with_replacement_marks(tmp_path, sine):
+    weird = _not_utf8(tmp_path, sine)
+    out = tmp_path / "rep"
+    res = _run("report", weird, "--out", out)
+    assert res.exit_code == 0, res.stderr
+    for name in ("index.html", "summary.md", "analysis.json"):
+        text = (out / name).read_bytes().decode("utf-8")  # strict: valid UTF-8
+        assert "take\ufffd\ufffd.wav" in text or "take\\ufffd\\ufffd.wav" in text, name
+
+
+def test_report_of_a_take_without_speech_prints_no_library_warnings(tmp_path, sine):
+    # A plain tone has no speech, so its intelligibility figures have nothing labelled: no legend, and no
+    # matplotlib warning on stderr even with VOICEBAND_DEBUG=1 (which lets library warnings through).
+    p = _cli("report", sine, "--out", tmp_path / "rep", env={**os.environ, "VOICEBAND_DEBUG": "1", "MPLBACKEND": "Agg"})
+    assert p.returncode == 0, p.stderr
+    assert p.stderr.decode() == ""

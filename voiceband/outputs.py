@@ -8,7 +8,8 @@ One output layer for every command:
   the command's inputs (an output never replaces an input, ``--force`` or not), and an existing
   file is replaced only with ``force``.
 * :func:`atomic_output` gives a temporary path beside the destination that replaces it on
-  success (``os.replace``) and is removed on failure.
+  success (``os.replace``) and is removed on failure, with any folder it made for it that is
+  still empty (so a failed ``--out`` leaves no empty folder behind).
 * Temporary files are registered while they exist, so :func:`remove_temporaries` (called by the
   CLI on SIGTERM, SIGHUP and Ctrl-C) can delete them; their names carry the writing process's
   ID, so :func:`sweep_stale` removes those left by a process that was killed outright (SIGKILL,
@@ -39,13 +40,38 @@ from typing import Iterable, Optional, Union
 
 from .errors import OutputExistsError, OutputPathError
 
-__all__ = ["atomic_output", "check_writable", "remove_temporaries", "sweep_stale"]
+__all__ = ["atomic_output", "check_writable", "name_text", "remove_temporaries", "sweep_stale"]
 
 PathLike = Union[str, os.PathLike]
 
 #: Our temporary files: ``.vb-<pid>-<random>.part<suffix>`` (short, so any legal destination name fits).
 _TMP_RE = re.compile(r"^\.vb-(\d+)-[0-9a-f]{8}\.part(\.[A-Za-z0-9]{1,8})?$")
 _live: set[Path] = set()
+
+
+def name_text(name: Union[str, bytes, os.PathLike]) -> str:
+    """A file name as text for people and for UTF-8 outputs (JSON, CSV, Parquet, HTML, the terminal).
+
+    Unix file names are bytes; Python gives the bytes of a name that is not UTF-8 as lone
+    surrogates (``os.fsdecode``), which no UTF-8 file may hold and which JSON would keep as
+    ``\\udcff`` escapes that many readers refuse.  As careful Unix tools do when they print a name
+    that is not valid text, each such byte is shown as U+FFFD REPLACEMENT CHARACTER: every output
+    stays valid UTF-8 and the odd bytes are visible as such.  The text is for reading; a name that
+    had odd bytes cannot be opened again from it (two such names may even read the same).
+
+    >>> name_text(os.fsdecode(b"take\\xff1.wav"))
+    'take\ufffd1.wav'
+    """
+    s = os.fsdecode(name) if not isinstance(name, str) else name
+    try:
+        s.encode("utf-8")
+        return s
+    except UnicodeEncodeError:
+        pass
+    try:
+        return s.encode("utf-8", "surrogateescape").decode("utf-8", "replace")
+    except UnicodeEncodeError:  # a surrogate that stands for no byte (text built in Python, not a name)
+        return s.encode("utf-8", "surrogatepass").decode("utf-8", "replace")
 
 
 def _name_max(folder: Path) -> int:
@@ -248,12 +274,19 @@ class _AtomicPath:
         self.force = force
         self.inputs = inputs
         self.tmp: Optional[Path] = None
+        self.made: list[Path] = []
 
     def __enter__(self) -> Path:
         check_writable(self.path, force=self.force, inputs=self.inputs, make_folders=self.make_folders)
         parent = self.path.parent if str(self.path.parent) else Path(".")
+        missing = []  # folders this output makes, deepest first: removed again if it writes nothing
+        q = parent
+        while not os.path.lexists(q) and q.parent != q:
+            missing.append(q)
+            q = q.parent
         try:
             parent.mkdir(parents=True, exist_ok=True)
+            self.made = missing
         except OSError as exc:
             raise OutputPathError(f"cannot make the folder '{parent}': {os.strerror(exc.errno or errno.EIO)}.") from None
         sweep_stale(parent)
@@ -279,6 +312,7 @@ class _AtomicPath:
 
     def __exit__(self, exc_type, exc, tb) -> bool:
         assert self.tmp is not None
+        done = False
         try:
             if exc is not None and _is_write_failure(exc):
                 raise OutputPathError(
@@ -286,6 +320,7 @@ class _AtomicPath:
             if exc_type is None:
                 try:
                     os.replace(self.tmp, self.path)
+                    done = True
                 except OSError as e:
                     raise OutputPathError(
                         f"cannot write '{self.path}': {os.strerror(e.errno or errno.EIO)}.") from None
@@ -295,4 +330,15 @@ class _AtomicPath:
                 self.tmp.unlink()
             except OSError:
                 pass
+            if not done:
+                _remove_empty(self.made)
         return False
+
+
+def _remove_empty(folders: list[Path]) -> None:
+    """Remove the folders an output made (deepest first) while they are empty: a failed command leaves no trace."""
+    for d in folders:
+        try:
+            os.rmdir(d)
+        except OSError:
+            break

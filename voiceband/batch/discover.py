@@ -4,10 +4,12 @@ from __future__ import annotations
 
 import fnmatch
 import os
+import stat
 from pathlib import Path
 from typing import Iterable, Optional
 
 from ..errors import AudioInputError
+from ..inputs import regular_file
 
 __all__ = ["AUDIO_SUFFIXES", "discover_files"]
 
@@ -39,7 +41,8 @@ def discover_files(paths: Iterable[os.PathLike | str], *, pattern: Optional[str]
     Raises
     ------
     AudioInputError
-        A path does not exist, or names a device, pipe or socket.
+        A path does not exist, names a device, pipe or socket, is too long for the file system or
+        lies in a folder that cannot be entered.
     """
     seen: set[str] = set()
     out: list[Path] = []
@@ -52,7 +55,17 @@ def discover_files(paths: Iterable[os.PathLike | str], *, pattern: Optional[str]
 
     for raw in paths:
         p = Path(raw)
-        if p.is_dir():
+        try:
+            st = os.stat(p)
+        except FileNotFoundError:
+            if p.is_symlink():  # a dangling link: its row says why it cannot be read
+                add(p)
+                continue
+            raise AudioInputError(f"No such file or folder: '{p}'.") from None
+        except OSError:
+            regular_file(p)  # one sentence: a name too long, a file on the way, a folder that cannot be entered
+            raise
+        if stat.S_ISDIR(st.st_mode):
             for root, dirs, files in os.walk(p):
                 dirs[:] = sorted(d for d in dirs if not d.startswith("."))
                 for name in sorted(files):
@@ -65,12 +78,10 @@ def discover_files(paths: Iterable[os.PathLike | str], *, pattern: Optional[str]
                         continue
                     if (Path(root) / name).is_file():  # a pipe or device with an audio name is not a recording
                         add(Path(root) / name)
-        elif p.exists() and not p.is_file():
+        elif not stat.S_ISREG(st.st_mode):
             # A device such as /dev/zero would be read (and hashed) for ever; a pipe or socket cannot be re-read.
             raise AudioInputError(
                 f"'{p}' is not a regular file (a device, pipe or socket); batch reads recordings from files and folders.")
-        elif p.exists() or p.is_symlink():
-            add(p)
         else:
-            raise AudioInputError(f"No such file or folder: '{p}'.")
+            add(p)
     return out

@@ -18,6 +18,10 @@ class ClusterError(VoicebandError, RuntimeError):
     """The Dask extra is missing or the scheduler cannot be reached."""
 
 
+class WorkerStartError(VoicebandError, RuntimeError):
+    """The local worker processes cannot be started."""
+
+
 def default_workers() -> int:
     """Worker processes by default: the CPUs this process may use."""
     try:
@@ -60,10 +64,17 @@ class LocalPool:
         from concurrent.futures.process import BrokenProcessPool
 
         try:
-            return self._ensure().submit(fn, *args)
-        except BrokenProcessPool:
+            try:
+                return self._ensure().submit(fn, *args)
+            except BrokenProcessPool:
+                self._restart()
+                return self._ensure().submit(fn, *args)
+        except OSError as exc:
+            # the fork server or a worker could not start (no Python to run, no room for a process, ...);
+            # said as such, not as the broken pipe or refused connection it shows up as
             self._restart()
-            return self._ensure().submit(fn, *args)
+            reason = os.strerror(exc.errno).lower() if exc.errno else str(exc) or type(exc).__name__
+            raise WorkerStartError(f"cannot start the batch's worker processes ({reason}).") from None
 
     def _restart(self) -> None:
         if self._pool is not None:

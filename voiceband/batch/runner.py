@@ -96,6 +96,7 @@ def run_batch(
     BatchSummary
     """
     from .hashing import settings_hash
+    from .writers import path_key
 
     shash = settings_hash(settings.as_dict())
     summary = BatchSummary(total=len(files))
@@ -137,14 +138,14 @@ def run_batch(
     def hashed(path: str, res: dict) -> None:
         sha = res.get("sha256")
         if sha is None:
-            if output.recorded_paths.get((path, shash), "") is None:
+            if output.recorded_paths.get((path_key(path), shash), "") is None:
                 summary.skipped += 1  # recorded as unreadable before
                 summary.failed_earlier += 1
                 tick()
             else:
                 record(failed_row(path, None, shash, res.get("error") or "cannot be read.", extra_names), None)
             return
-        if output.recorded_paths.get((path, shash)) == sha:
+        if output.recorded_paths.get((path_key(path), shash)) == sha:
             summary.skipped += 1
             if output.recorded[(sha, shash)][0] != "ok":
                 summary.failed_earlier += 1

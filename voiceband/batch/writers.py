@@ -15,6 +15,7 @@ the journal; ``--resume`` reads both.  pyarrow is imported only for a Parquet ou
 
 from __future__ import annotations
 
+import abc
 import csv
 import io
 import json
@@ -26,7 +27,7 @@ from typing import Any, Mapping, Optional
 
 from ..errors import OutputExistsError, VoicebandError
 
-__all__ = ["BatchOutput", "check_output", "open_output", "OUTPUT_SUFFIXES", "PARQUET_REWRITE_S", "journal_path"]
+__all__ = ["BatchOutput", "check_output", "open_output", "OUTPUT_SUFFIXES", "PARQUET_REWRITE_S", "journal_path", "path_key"]
 
 OUTPUT_SUFFIXES = (".csv", ".jsonl", ".parquet")
 #: Seconds between atomic rewrites of a Parquet output during a run.
@@ -35,6 +36,11 @@ PARQUET_REWRITE_S = 60.0
 
 class OutputFormatError(VoicebandError, ValueError):
     """An existing output cannot be resumed (other columns, a damaged line)."""
+
+
+def path_key(path: str) -> str:
+    """The key of a file's row in :attr:`BatchOutput.recorded_paths`: its path as the output holds it."""
+    return _text(path)
 
 
 def journal_path(path: Path) -> Path:
@@ -76,11 +82,22 @@ def _cut_partial_last_line(path: Path) -> None:
 def _json_safe(v: Any) -> Any:
     if isinstance(v, float) and not math.isfinite(v):
         return None
+    if isinstance(v, str):
+        return _text(v)
     return v
 
 
-class BatchOutput:
-    """An open batch output.
+def _text(s: str) -> str:
+    """Valid UTF-8 text: the bytes of a path that are not UTF-8 shown as U+FFFD (see :func:`voiceband.outputs.name_text`)."""
+    if s.isascii():
+        return s
+    from ..outputs import name_text
+
+    return name_text(s)
+
+
+class BatchOutput(abc.ABC):
+    """An open batch output (abstract: one subclass per format gives :meth:`open`, :meth:`_append`, :meth:`_read_back`).
 
     ``recorded`` maps (sha256, settings) of the first row recorded for each content to
     (status, where the row is); ``recorded_paths`` maps (path, settings) of every recorded row
@@ -100,7 +117,8 @@ class BatchOutput:
     def _remember(self, row: Mapping[str, Any], where: Any) -> None:
         settings = str(row.get("settings") or "")
         sha = row.get("sha256") or None
-        self.recorded_paths[(str(row.get("path")), settings)] = sha
+        # keyed by the path as written (a name that is not UTF-8 is on disk with U+FFFD): see path_key
+        self.recorded_paths[(path_key(str(row.get("path"))), settings)] = sha
         if sha and (sha, settings) not in self.recorded:
             self.recorded[(sha, settings)] = (str(row.get("status")), where)
 
@@ -116,7 +134,7 @@ class BatchOutput:
         row, analysis = self._read_back(self.recorded[key][1])
         row["path"] = path
         if isinstance(analysis, dict) and isinstance(analysis.get("input"), dict):
-            analysis["input"]["path"] = path
+            analysis["input"]["path"] = _text(path)
         self.write(row, analysis)
         return row
 
@@ -126,12 +144,17 @@ class BatchOutput:
         self._remember(row, where)
         self.rows_written += 1
 
-    # format-specific: append a row and say where it is; read a row (and its analysis) back
-    def _append(self, row: Mapping[str, Any], analysis: Optional[Mapping[str, Any]]) -> Any:  # pragma: no cover
-        raise NotImplementedError
+    @abc.abstractmethod
+    def open(self, *, exists: bool) -> None:
+        """Start writing: a new output (``exists`` false) or an existing one whose rows are read into ``recorded``."""
 
-    def _read_back(self, where: Any) -> tuple[dict[str, Any], Optional[dict]]:  # pragma: no cover
-        raise NotImplementedError
+    @abc.abstractmethod
+    def _append(self, row: Mapping[str, Any], analysis: Optional[Mapping[str, Any]]) -> Any:
+        """Append one row and push it to disk; return where it is, for :meth:`_read_back`."""
+
+    @abc.abstractmethod
+    def _read_back(self, where: Any) -> tuple[dict[str, Any], Optional[dict]]:
+        """The row (and its analysis, or None) that :meth:`_append` put at ``where``."""
 
     def close(self) -> None:
         """Finish the output (a Parquet output is written here); safe to call twice."""
@@ -181,7 +204,7 @@ class _CsvOutput(BatchOutput):
             return ""
         if isinstance(v, float):
             return repr(v) if math.isfinite(v) else ""
-        return str(v)
+        return _text(str(v))
 
     def _append(self, row, analysis) -> int:
         buf = io.StringIO()
@@ -269,7 +292,7 @@ class _ParquetOutput(BatchOutput):
                 if not raw.strip():
                     continue
                 rec = _parse_line(j, n, raw)
-                if (str(rec.get("path")), str(rec.get("settings") or "")) in self.recorded_paths:
+                if (path_key(str(rec.get("path"))), str(rec.get("settings") or "")) in self.recorded_paths:
                     continue  # already in the Parquet file (stopped between a rewrite and the journal's removal)
                 self._keep(rec)
         self._f = open(j, "ab" if exists else "wb")
@@ -282,12 +305,16 @@ class _ParquetOutput(BatchOutput):
         self._remember(rec, where)
         return where
 
-    def write(self, row: Mapping[str, Any], analysis: Optional[Mapping[str, Any]] = None) -> None:
+    def _append(self, row, analysis) -> int:
+        # the row goes to the journal now; the Parquet file gets it at the next rewrite (no analysis kept)
         rec = {c: _json_safe(row.get(c)) for c in self.columns}
         self._f.write((json.dumps(rec, allow_nan=False, separators=(",", ":")) + "\n").encode("utf-8"))
         _sync(self._f)
-        self._keep(rec)
-        self.rows_written += 1
+        self._rows.append(tuple(rec[c] for c in self.columns))
+        return len(self._rows) - 1
+
+    def write(self, row: Mapping[str, Any], analysis: Optional[Mapping[str, Any]] = None) -> None:
+        super().write(row, analysis)
         if time.monotonic() - self._last_rewrite >= PARQUET_REWRITE_S:
             self._rewrite()
 
@@ -301,7 +328,7 @@ class _ParquetOutput(BatchOutput):
         from ..outputs import atomic_output
 
         kinds = {"string": pa.string(), "int": pa.int64(), "float": pa.float64()}
-        convert = {"string": lambda v: None if v is None else str(v),
+        convert = {"string": lambda v: None if v is None else _text(str(v)),
                    "int": lambda v: None if v is None else int(v),
                    "float": lambda v: None if v is None else float(v)}
         arrays = []

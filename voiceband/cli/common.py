@@ -133,15 +133,30 @@ def stdout_failed(exc: OSError) -> "typer.Exit":
     return fail(f"cannot write to standard output: {os.strerror(exc.errno or errno.EIO).lower()}")
 
 
-def _names_as_bytes() -> None:
-    # A file name that is not UTF-8 reaches Python with its odd bytes as surrogates; print them
-    # back as the same bytes (as ls does) instead of failing on them.
+def _name_bytes_as_marks(exc: UnicodeError) -> tuple[bytes, int]:
+    # The bytes of a name that are not UTF-8 (lone surrogates in Python) shown as U+FFFD, as in
+    # every output (voiceband.outputs.name_text); '?' where the stream's encoding has no U+FFFD.
+    # (Bytes, not text: the UTF-8 encoder takes only ASCII text from an error handler.)
+    if not isinstance(exc, UnicodeEncodeError):
+        raise exc
+    try:
+        mark = "\ufffd".encode(exc.encoding)
+    except (UnicodeError, LookupError):
+        mark = b"?"
+    return mark * (exc.end - exc.start), exc.end
+
+
+def _names_as_marks() -> None:
+    # A message naming a file that is not UTF-8 is printed, never an encoding error instead.
+    import codecs
+
+    codecs.register_error("voiceband.names", _name_bytes_as_marks)
     for stream in (sys.stdout, sys.stderr):
         reconfigure = getattr(stream, "reconfigure", None)
-        if reconfigure is not None and getattr(stream, "errors", "") == "strict":
+        if reconfigure is not None and getattr(stream, "errors", "") in ("strict", "surrogateescape", "backslashreplace"):
             try:
-                reconfigure(errors="surrogateescape")
-            except (ValueError, OSError, TypeError):
+                reconfigure(errors="voiceband.names")
+            except (ValueError, OSError, TypeError, LookupError):
                 pass
 
 
@@ -161,12 +176,13 @@ def guarded(fn: Optional[Callable[..., Any]] = None, *, options: Optional[Mappin
     @functools.wraps(fn)
     def wrapper(*args: Any, **kwargs: Any) -> Any:
         _catch_termination()
-        _names_as_bytes()
+        _names_as_marks()
         try:
             with warnings.catch_warnings():
                 if not os.environ.get("VOICEBAND_DEBUG"):
-                    # numpy's overflow notes are not for users: the result or our sentence says what matters
-                    warnings.simplefilter("ignore", RuntimeWarning)
+                    # the libraries' notes (numpy's overflow, matplotlib's) are not for users: the result
+                    # or our sentence says what matters, in one line
+                    warnings.simplefilter("ignore")
                 rv = fn(*args, **kwargs)
             sys.stdout.flush()  # a closed pipe shows here, not at the interpreter's last flush
             return rv

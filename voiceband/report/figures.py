@@ -56,6 +56,12 @@ def _style():
     return matplotlib.style.context(REPORT_STYLE)
 
 
+def _legend(ax: Any, **kwargs: Any) -> None:
+    """A legend for the labelled lines of ``ax``, none when nothing is labelled (a take without speech)."""
+    if ax.get_legend_handles_labels()[0]:
+        ax.legend(**kwargs)
+
+
 def _fig(w: float, h: float, rows: int = 1):
     from matplotlib.figure import Figure
 
@@ -127,7 +133,7 @@ def spectrum_figure(takes: Sequence[Take], profile: Any) -> Any:
         _logx(ax, lo, hi)
         ax.set_ylabel("Spectrum level (dB re FS² per Hz)")
         ax.set_title("Where the power lies: long-term spectrum (thin vertical lines: −10 dB edges)", loc="left")
-        ax.legend(loc="lower left", ncol=2)
+        _legend(ax, loc="lower left", ncol=2)
     return fig
 
 
@@ -193,7 +199,7 @@ def level_figure(takes: Sequence[Take]) -> Any:
             ax.set_xlim(0.0, max(float(x[-1]) if x.size else 1.0, 1e-3))
             ax.set_ylabel("dBFS")
             ax.set_title(f"{t.label}: level over time", loc="left")
-            ax.legend(loc="lower right", bbox_to_anchor=(1.0, 1.0), ncol=5, fontsize=7, borderaxespad=0.1,
+            _legend(ax, loc="lower right", bbox_to_anchor=(1.0, 1.0), ncol=5, fontsize=7, borderaxespad=0.1,
                       handlelength=1.5, columnspacing=1.0)
         axes[-1].set_xlabel("Time (s)")
     return fig
@@ -227,7 +233,7 @@ def histogram_figure(takes: Sequence[Take]) -> Any:
         ax.set_xlabel("Sample value (full scale = ±1)")
         ax.set_ylabel("Share of samples (log)")
         ax.set_title("How the samples spread: amplitude histogram", loc="left")
-        ax.legend(loc="upper right")
+        _legend(ax, loc="upper right")
     return fig
 
 
@@ -254,7 +260,7 @@ def sii_bands_figure(takes: Sequence[Take]) -> Any:
         ax.set_xlabel("SII band centre (Hz)")
         ax.set_ylabel("Importance × audibility")
         ax.set_title("Where intelligibility comes from (ANSI S3.5-1997 bands)", loc="left")
-        ax.legend(loc="upper right")
+        _legend(ax, loc="upper right")
     return fig
 
 
@@ -277,7 +283,7 @@ def sii_snr_figure(takes: Sequence[Take]) -> Any:
         ax.set_xlabel("Channel SNR (dB, white noise over 141–8913 Hz)")
         ax.set_ylabel("SII")
         ax.set_title("Weak signals: intelligibility against channel noise", loc="left")
-        ax.legend(loc="lower right")
+        _legend(ax, loc="lower right")
     return fig
 
 
@@ -307,7 +313,7 @@ def hum_figure(takes: Sequence[Take]) -> Optional[Any]:
         ax.set_xlabel("Frequency (Hz)")
         ax.set_ylabel("dBFS")
         ax.set_title("Mains hum close-up (pauses only)", loc="left")
-        ax.legend(loc="upper right")
+        _legend(ax, loc="upper right")
     return fig
 
 
@@ -354,12 +360,12 @@ def comparison_figure(takes: Sequence[Take], profile: Any) -> Any:
         _logx(ax_s, lo, hi)
         ax_s.set_ylabel("dB re FS² per Hz")
         ax_s.set_title("Long-term speech spectrum of each recording", loc="left")
-        ax_s.legend(loc="lower left", fontsize=7)
+        _legend(ax_s, loc="lower left", fontsize=7)
         ax_i.set_ylim(0.0, 1.0)
         ax_i.set_xlabel("Channel SNR (dB, white noise over 141–8913 Hz)")
         ax_i.set_ylabel("SII")
         ax_i.set_title("Intelligibility against channel noise", loc="left")
-        ax_i.legend(loc="lower right", fontsize=7)
+        _legend(ax_i, loc="lower right", fontsize=7)
     return fig
 
 

@@ -178,7 +178,7 @@ def check_outputs(out: Path, *, pdf: bool, before: bool, force: bool, inputs=())
 
 def write_report(report: Report, out: Union[str, os.PathLike], *, force: bool = False, pdf: bool = False) -> Path:
     """Write the report's files into ``out`` (created if needed); returns the path of ``index.html``."""
-    from ..outputs import atomic_output
+    from ..outputs import atomic_output, name_text
     from .figures import Take as FigureTake
     from .figures import FIGURES, figure_png, render_figures
     from .html import render_html
@@ -199,7 +199,7 @@ def write_report(report: Report, out: Union[str, os.PathLike], *, force: bool = 
             if isinstance(data, bytes):
                 tmp.write_bytes(data)
             else:
-                tmp.write_text(data, encoding="utf-8", errors="replace")  # a name that is not UTF-8 shows as ?
+                tmp.write_text(name_text(data), encoding="utf-8")  # a name's bytes that are not UTF-8 show as U+FFFD
 
     for stem, _, png in pngs:
         put(f"{stem}.png", png)

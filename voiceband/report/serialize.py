@@ -15,9 +15,15 @@ __all__ = ["to_jsonable", "dumps_json", "write_json"]
 
 
 def to_jsonable(obj: Any) -> Any:
-    """Convert ``obj`` to plain JSON types; NaN and ±Inf become ``None`` (JSON null)."""
-    if obj is None or isinstance(obj, (bool, str)):
+    """Convert ``obj`` to plain JSON types; NaN and ±Inf become ``None`` (JSON null).
+
+    Text is valid Unicode: the bytes of a file name that are not UTF-8 become U+FFFD
+    (:func:`voiceband.outputs.name_text`), never a lone-surrogate ``\\udcxx`` escape.
+    """
+    if obj is None or isinstance(obj, bool):
         return obj
+    if isinstance(obj, str):
+        return _text(obj)
     if isinstance(obj, (int, np.integer)) and not isinstance(obj, bool):
         return int(obj)
     if isinstance(obj, (float, np.floating)):
@@ -32,12 +38,20 @@ def to_jsonable(obj: Any) -> Any:
     if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
         return {f.name: to_jsonable(getattr(obj, f.name)) for f in dataclasses.fields(obj)}
     if isinstance(obj, dict):
-        return {str(k): to_jsonable(v) for k, v in obj.items()}
+        return {_text(str(k)): to_jsonable(v) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):
         return [to_jsonable(v) for v in obj]
     if isinstance(obj, Path):
-        return str(obj)
+        return _text(str(obj))
     raise TypeError(f"cannot serialise {type(obj).__name__} to JSON")
+
+
+def _text(s: str) -> str:
+    if s.isascii():
+        return s
+    from ..outputs import name_text
+
+    return name_text(s)
 
 
 def dumps_json(data: Any) -> str:
