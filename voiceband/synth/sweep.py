@@ -26,7 +26,7 @@ inverse filter; from memory).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 
 import numpy as np
 
@@ -213,20 +213,8 @@ def exponential_sweep(
                           level_dbfs=level_dbfs, markers=markers)
     x = layout.chunk(0, layout.frames)
     x.setflags(write=False)
-    return SweepSignal(
-        samples=x,
-        sample_rate_hz=layout.sample_rate_hz,
-        start_hz=layout.start_hz,
-        stop_hz=layout.stop_hz,
-        duration_s=layout.duration_s,
-        level_dbfs=layout.level_dbfs,
-        rate_constant_s=layout.rate_constant_s,
-        sweep_start_index=layout.sweep_start_index,
-        sweep_stop_index=layout.sweep_stop_index,
-        marker_start_indices=layout.marker_start_indices,
-        marker_length=layout.marker_length,
-        marker_band_hz=layout.marker_band_hz,
-    )
+    # every attribute but the samples is the layout's own (the same names, checked once there)
+    return SweepSignal(samples=x, **{f.name: getattr(layout, f.name) for f in fields(SweepSignal) if f.name != "samples"})
 
 
 @dataclass(frozen=True)
