@@ -39,6 +39,7 @@ import numpy as np
 from ..arrays import sorted_unique
 from .. import validate
 from ..errors import SignalValueError
+from ..fourier import rfft
 from .activity import LEVEL_BIN_COUNT, LEVEL_BIN_DB, LEVEL_MIN_DBFS, level_bins
 
 __all__ = [
@@ -188,7 +189,7 @@ class _HumWindows:
             y, shape=(nw, n), strides=(hop * y.itemsize, y.itemsize), writeable=False
         )
         ms = np.einsum("ij,ij->i", frames, frames).astype(np.float64) / n
-        pw = np.abs(np.fft.rfft(frames * self.win, axis=1)[:, : self.nbins]).astype(np.float64)
+        pw = np.abs(rfft(frames * self.win, axis=1)[:, : self.nbins]).astype(np.float64)
         pw *= pw
         return level_bins(ms), pw
 

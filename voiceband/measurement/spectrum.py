@@ -51,6 +51,7 @@ from .activity import LEVEL_BIN_COUNT
 from .bandwidth import cumulative_power
 from ..bands import BandLevels, bands_for_nominal, third_octave_bands
 from ..errors import MeasurementError
+from ..fourier import rfft
 
 __all__ = [
     "band_powers",
@@ -292,7 +293,7 @@ class LongTermSpectrumAccumulator:
         w = stride[sel]
         fr = frames[sel]
         fr *= self._win
-        pw = np.abs(np.fft.rfft(fr, axis=1))
+        pw = np.abs(rfft(fr, axis=1))
         pw *= pw
         starts = np.flatnonzero(np.r_[True, b[1:] != b[:-1]])
         ends = np.r_[starts[1:], b.size]

@@ -38,6 +38,7 @@ import numpy as np
 
 from ..validate import block as _check_block
 from ..validate import sample_rate_hz as _check_rate
+from ..fourier import rfft
 
 __all__ = ["TimelineAccumulator", "TimelineResult", "HISTOGRAM_BINS", "measure_timeline"]
 
@@ -226,7 +227,7 @@ class TimelineAccumulator:
             sel = np.flatnonzero(idx % stride == 0) + i
             if sel.size:
                 fr = c[sel] - c[sel].mean(axis=1, keepdims=True)
-                pw = np.abs(np.fft.rfft(fr * self._win, axis=1)) ** 2
+                pw = np.abs(rfft(fr * self._win, axis=1)) ** 2
                 total = pw.sum(axis=0)
             else:
                 total = np.zeros(self.chunk // 2 + 1)
