@@ -23,6 +23,7 @@ import numpy as np
 from ..arrays import sorted_unique
 from .. import validate
 from ..fastlen import next_fast_len
+from ..fourier import irfft, rfft
 from ..errors import MeasurementError
 from .hum import block_as_stored, steady_mains_lines, subtract_line
 
@@ -138,9 +139,7 @@ def _cmnd(frames: np.ndarray, w: int, tau_max: int) -> tuple[np.ndarray, np.ndar
     nfft = next_fast_len(length, real=True)
     # Cross term in the frames' own precision (float32 from the reservoir); energies,
     # whose differences matter near a dip, are accumulated in float64.
-    r = np.fft.irfft(
-        np.conj(np.fft.rfft(frames[:, :w], nfft, axis=1)) * np.fft.rfft(frames, nfft, axis=1), nfft, axis=1
-    )
+    r = irfft(np.conj(rfft(frames[:, :w], nfft, axis=1)) * rfft(frames, nfft, axis=1), nfft, axis=1)
     sq = np.empty((n, length + 1))
     sq[:, 0] = 0.0
     np.cumsum(np.square(frames, dtype=np.float64), axis=1, out=sq[:, 1:])
@@ -400,7 +399,7 @@ def _analysis_band(chunks: np.ndarray, sample_rate_hz: float) -> tuple[np.ndarra
     length = chunks.shape[1]
     m = length if fs <= _F0_RATE_HZ else int(math.ceil(length * _F0_RATE_HZ / fs))
     rate = m * fs / length
-    spec = np.fft.rfft(chunks, axis=1)[:, : m // 2 + 1]
+    spec = rfft(chunks, axis=1)[:, : m // 2 + 1]
     df = fs / length
     f = np.arange(spec.shape[1]) * df
     gain = np.zeros(f.size)
@@ -424,7 +423,7 @@ def _analysis_band(chunks: np.ndarray, sample_rate_hz: float) -> tuple[np.ndarra
             near = u < 1.0
             gain[near] *= np.sin(0.5 * np.pi * u[near]) ** 2
     spec *= gain
-    out = np.fft.irfft(spec, m, axis=1)
+    out = irfft(spec, m, axis=1)
     out *= m / length
     return out, rate
 
