@@ -194,8 +194,17 @@ class RecordingAccumulator:
             # before any float32 path turns them into infinities.
             measurable_samples(np.asarray(block), name="The samples", first_sample=self.samples,
                                sample_rate_hz=self.sample_rate_hz)
-        self.levels.update(block)  # raises SignalValueError on a bad block before anything else sees it
-        self.clipping.update(block)
+        from .arrays import piece_peaks
+        from .validate import block as checked_block
+
+        x = checked_block(block)  # raises SignalValueError on a bad block before anything else sees it
+        if x.size == 0:
+            return
+        # Maxima and minima of short pieces, once: the level meter's sample and true peaks and
+        # the clipping detector's extremes and candidates all come from them.
+        peaks = piece_peaks(x)
+        self.levels.update(x, peaks=peaks)
+        self.clipping.update(x, peaks=peaks)
         frames, bins, first, x32, ms = self.activity.update_frames(block)
         self.spectrum.update_frames(frames, bins, first)
         self.speech_noise.update(ms)

@@ -119,7 +119,7 @@ from typing import Optional
 
 import numpy as np
 
-from ..arrays import sorted_unique
+from ..arrays import piece_peaks, sorted_unique, where_beyond
 from ..errors import SignalValueError
 from .. import validate
 
@@ -144,7 +144,6 @@ _BAND_ROOM_DB = 2.0
 _MIN_RUNS = 2
 _MIN_CLIPPED = 4
 # Samples per inner chunk of a block (256 KiB of float64: stays in L2 cache).
-_CHUNK = 1 << 15
 # Candidate levels kept per polarity (the highest ones).
 _MAX_LEVELS = 16
 # Step 5 (noisy ceilings): window half-widths in bins (4 bins to 2 %, steps of sqrt 2), the
@@ -573,8 +572,11 @@ class ClippingAccumulator:
         self._tail = np.zeros(0)
         self._tail_len = 2 * self._min_run - 2
 
-    def update(self, block) -> None:
+    def update(self, block, *, peaks: Optional[tuple[np.ndarray, np.ndarray]] = None) -> None:
         """Add the next block of samples (1-D, full scale = ±1.0).
+
+        ``peaks`` may hand over :func:`voiceband.arrays.piece_peaks` of the block when the caller
+        has them already (the orchestrator shares them with the level meter).
 
         Raises
         ------
@@ -585,38 +587,26 @@ class ClippingAccumulator:
         n = x.size
         if n == 0:
             return
-        # Extremes per cache-sized chunk, and each side's candidate samples while the chunk is
-        # in L2: those at or beyond the side's threshold so far (its extreme raised by this
-        # block's chunks up to here).  The threshold only rises, so the candidates are a
-        # superset of the samples at or beyond the final one, which _side_update keeps.
-        starts = np.arange(0, n, _CHUNK)
-        hi_c = np.empty(starts.size)
-        lo_c = np.empty(starts.size)
-        region = self._hist_region
-        run_hi, run_lo = self._sides[0].extreme, self._sides[1].extreme
-        cand_hi, cand_lo = [], []
-        for i, j in enumerate(starts):
-            xc = x[j:j + _CHUNK]
-            h = hi_c[i] = xc.max()
-            lo_ = lo_c[i] = xc.min()
-            if h > run_hi:
-                run_hi = h
-            if -lo_ > run_lo:
-                run_lo = -lo_
-            if run_hi > 0.0 and h >= run_hi * region:
-                cand_hi.append(np.flatnonzero(xc >= run_hi * region) + j)
-            if run_lo > 0.0 and -lo_ >= run_lo * region:
-                cand_lo.append(np.flatnonzero(xc <= -run_lo * region) + j)
-        hi = float(hi_c.max())
-        lo = float(lo_c.min())
+        # Maxima and minima of 2048-sample pieces (arrays.piece_peaks); then each side's candidates, the samples at or beyond its
+        # final threshold (its extreme raised by this block), from only the pieces that reach it.
+        pmx, pmn = piece_peaks(x) if peaks is None else peaks
+        hi = float(pmx.max())
+        lo = float(pmn.min())
         if not (math.isfinite(hi) and math.isfinite(lo)):
             bad = int(np.flatnonzero(~np.isfinite(x))[0]) + self._n
             raise SignalValueError(
                 f"The signal holds a NaN or infinite sample (first at sample {bad}, "
                 f"{bad / self._fs:.3f} s), so clipping cannot be measured."
             )
-        self._side_update(self._sides[0], x, hi, _joined(cand_hi), +1)
-        self._side_update(self._sides[1], x, -lo, _joined(cand_lo), -1)
+        region = self._hist_region
+        cand = [_EMPTY, _EMPTY]
+        for k, (extreme, pieces, lowest) in enumerate(((max(self._sides[0].extreme, hi), pmx, False),
+                                                        (max(self._sides[1].extreme, -lo), pmn, True))):
+            if extreme > 0.0:
+                thr = -extreme * region if lowest else extreme * region
+                cand[k] = where_beyond(x, thr, pieces, lowest=lowest)
+        self._side_update(self._sides[0], x, hi, cand[0], +1)
+        self._side_update(self._sides[1], x, -lo, cand[1], -1)
         self._n += n
         self._tail = np.concatenate((self._tail, x[-self._tail_len:]))[-self._tail_len:]
 

@@ -62,7 +62,7 @@ from typing import Optional
 
 import numpy as np
 
-from ..arrays import sorted_unique
+from ..arrays import PIECE, piece_peaks, sorted_unique, where_beyond
 from .. import validate
 from ..errors import SignalValueError
 from ..units import db_amplitude, db_power
@@ -166,7 +166,7 @@ _BELOW_LADDER = np.float32(2.0 ** ((_LADDER_MIN - 0.5) / _LADDER_STEPS_PER_OCTAV
 _ENVELOPE_RATE_HZ = 750.0
 # Samples per inner chunk of a block (256 KiB of float64: stays in L2 cache).
 _CHUNK = 1 << 15
-# More true-peak candidates than this in a chunk are thinned to local maxima at once.
+# More true-peak candidates than this in a block are thinned to local maxima at once.
 _PREFILTER_CANDIDATES = 256
 
 
@@ -325,8 +325,11 @@ class LevelsAccumulator:
         self._abs_buf = np.empty(self._chunk)
 
     # ------------------------------------------------------------------ update
-    def update(self, block) -> None:
+    def update(self, block, *, peaks: Optional[tuple[np.ndarray, np.ndarray]] = None) -> None:
         """Add the next block of samples (1-D, full scale = ±1.0).
+
+        ``peaks`` may hand over :func:`voiceband.arrays.piece_peaks` of the block when the caller
+        has them already (the orchestrator shares them with the clipping detector).
 
         Raises
         ------
@@ -345,11 +348,13 @@ class LevelsAccumulator:
         # The first `head` samples complete the envelope group left open by the
         # previous block; after them, chunk boundaries stay aligned to groups.
         head = min((d - self._grp_len) % d, n)
+        pmx, pmn = piece_peaks(x) if peaks is None else peaks
+        pm = np.maximum(pmx, -pmn)  # maxima of |x| per piece
+        best_piece = int(np.argmax(pm))
+        best = float(pm[best_piece])
         sums = []
         sumsq = 0.0
         total = 0.0
-        best, best_at = -1.0, 0
-        cands = []
         edges = [0, head] if head else [0]
         edges.extend(range(head + self._chunk, n, self._chunk))
         edges.append(n)
@@ -363,21 +368,6 @@ class LevelsAccumulator:
             sumsq += float(np.einsum("i,i->", xc, xc))
             total += float(xc.sum())
             ac = np.abs(xc, out=self._abs_buf[:m])
-            mx = float(ac.max())
-            if mx > best:
-                best, best_at = mx, lo
-            if mx >= thr and mx > 0.0:
-                thr = max(thr, mx * margin)
-                c = np.flatnonzero(ac >= thr)
-                if c.size > _PREFILTER_CANDIDATES:
-                    # Keep local maxima of |x| (chunk-edge samples are checked later).  Only a
-                    # saving of memory: the interpolation applies the same test to every
-                    # candidate, so a few candidates are passed on as they are.
-                    ci = c[(c > 0) & (c < m - 1)]
-                    v = ac[ci]
-                    ci = ci[(v >= ac[ci - 1]) & (v >= ac[ci + 1])]
-                    c = np.concatenate((c[:1][c[:1] == 0], ci, c[-1:][c[-1:] == m - 1]))
-                cands.append(c + lo)
             if lo == 0 and head:
                 head_sum = float(ac.sum())
                 continue
@@ -415,11 +405,24 @@ class LevelsAccumulator:
             u += _ENVELOPE_FLOOR
             self._hist += self._envelope_steps(u, d, commit=True)
 
-        # Sample peak, then true peak around the candidates.
+        # Sample peak, then true peak around the candidates: the samples within the search
+        # margin of the highest peak so far, from only the pieces that reach it.
         if best > self._peak:
             self._peak = best
-            self._peak_index = g0 + best_at + int(np.argmax(np.abs(x[best_at:best_at + self._chunk])))
-        new = np.concatenate(cands) if cands else np.zeros(0, dtype=np.int64)
+            at = best_piece * PIECE
+            self._peak_index = g0 + at + int(np.argmax(np.abs(x[at:at + PIECE])))
+        new = np.zeros(0, dtype=np.int64)
+        if best >= thr and best > 0.0:
+            thr = max(thr, best * margin)
+            new = where_beyond(x, thr, pm, magnitude=True)
+            if new.size > _PREFILTER_CANDIDATES:
+                # Keep local maxima of |x| (block-edge samples are checked later).  Only a saving
+                # of memory: the interpolation applies the same test to every candidate, so a
+                # few candidates are passed on as they are.
+                ci = new[(new > 0) & (new < n - 1)]
+                v = np.abs(x[ci])
+                ci = ci[(v >= np.abs(x[ci - 1])) & (v >= np.abs(x[ci + 1]))]
+                new = np.concatenate((new[:1][new[:1] == 0], ci, new[-1:][new[-1:] == n - 1]))
         self._true_peak_candidates(x, new, g0, thr)
         self._sumsq += sumsq
         self._sum += total
