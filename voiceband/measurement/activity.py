@@ -282,7 +282,7 @@ class _Framer:
         ms = (sums[:-1] + sums[1:]) / nfft
         # Frame levels leave out the frame's own mean: a DC offset is reported as such by the
         # levels, and counting it as noise would bury the pause noise floor under it.
-        s1 = chunks.sum(axis=1, dtype=np.float64)
+        s1 = np.einsum("ij->i", chunks).astype(np.float64)  # float32 sums, as the squares' (5x cheaper)
         mean = (s1[:-1] + s1[1:]) / nfft
         ms = np.maximum(ms - mean * mean, 0.0)
         frames = np.lib.stride_tricks.as_strided(

@@ -366,7 +366,7 @@ class LevelsAccumulator:
             m = hi - lo
             # einsum, not BLAS: a threaded BLAS stalls when the other cores are busy
             sumsq += float(np.einsum("i,i->", xc, xc))
-            total += float(xc.sum())
+            total += float(np.einsum("i->", xc))
             ac = np.abs(xc, out=self._abs_buf[:m])
             if lo == 0 and head:
                 head_sum = float(ac.sum())
