@@ -45,3 +45,14 @@ def test_bad_length_refused_like_numpy():
         fourier.rfft(np.ones(8), n=0)
     with pytest.raises(ValueError):
         np.fft.rfft(np.ones(8), n=0)  # numpy refuses it too
+
+
+@pytest.mark.parametrize("n", [None, 1000, 4096])
+def test_complex_transforms_match_numpy(n):
+    rng = np.random.default_rng(7)
+    x = rng.standard_normal(3000) + 1j * rng.standard_normal(3000)
+    # numpy.fft: reference definition of fft / ifft (unnormalised forward, 1/n inverse)
+    np.testing.assert_allclose(fourier.fft(x, n), np.fft.fft(x, n), rtol=0, atol=1e-12 * 3000)
+    np.testing.assert_allclose(fourier.ifft(x, n), np.fft.ifft(x, n), rtol=0, atol=1e-14 * 3000)
+    real = rng.standard_normal(3000)
+    np.testing.assert_allclose(fourier.fft(real, n), np.fft.fft(real, n), rtol=0, atol=1e-12 * 3000)

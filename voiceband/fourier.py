@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["rfft", "irfft"]
+__all__ = ["rfft", "irfft", "fft", "ifft"]
 
 
 def _ducc_fft():
@@ -98,3 +98,30 @@ def irfft(spec, n: int | None = None, axis: int = -1) -> np.ndarray:
         raise ValueError(f"Invalid number of FFT data points ({n}) specified.")
     spec = _fit(spec, n // 2 + 1, axis)
     return _ducc_fft().c2r(spec, axes=(axis,), lastsize=n, forward=False, inorm=2, nthreads=1)
+
+
+def _complex_input(x) -> np.ndarray:
+    x = np.asarray(x)
+    if x.dtype != np.complex64 and x.dtype != np.complex128:
+        x = x.astype(np.complex64 if x.dtype == np.float32 else np.complex128)
+    return x
+
+
+def fft(x, n: int | None = None, axis: int = -1) -> np.ndarray:
+    """Discrete Fourier transform, as :func:`numpy.fft.fft` (complex64 stays single precision)."""
+    x = _complex_input(x)
+    axis = axis % x.ndim if x.ndim else 0
+    n = x.shape[axis] if n is None else int(n)
+    if n < 1:
+        raise ValueError(f"Invalid number of FFT data points ({n}) specified.")
+    return _ducc_fft().c2c(_fit(x, n, axis), axes=(axis,), forward=True, inorm=0, nthreads=1)
+
+
+def ifft(x, n: int | None = None, axis: int = -1) -> np.ndarray:
+    """Inverse discrete Fourier transform, as :func:`numpy.fft.ifft` (``1/n`` scaling)."""
+    x = _complex_input(x)
+    axis = axis % x.ndim if x.ndim else 0
+    n = x.shape[axis] if n is None else int(n)
+    if n < 1:
+        raise ValueError(f"Invalid number of FFT data points ({n}) specified.")
+    return _ducc_fft().c2c(_fit(x, n, axis), axes=(axis,), forward=False, inorm=2, nthreads=1)

@@ -34,6 +34,7 @@ from fractions import Fraction
 import numpy as np
 
 from ..errors import MeasurementError
+from ..fourier import fft, ifft, irfft, rfft
 from ._framing import frames
 from .stimulus import Segment
 
@@ -129,7 +130,7 @@ def _band_log_envelopes(x: np.ndarray, fs: int, frame_len: int, hop: int) -> np.
     fr, _ = frames(x, frame_len, hop)
     if fr.shape[0] == 0:
         return np.zeros((_BANDS, 0))
-    p = np.abs(np.fft.rfft(fr * np.hanning(frame_len), axis=1)) ** 2
+    p = np.abs(rfft(fr * np.hanning(frame_len), axis=1)) ** 2
     f = np.fft.rfftfreq(frame_len, 1.0 / fs)
     edges = np.geomspace(100.0, 0.45 * fs, _BANDS + 1)
     idx = np.clip(np.searchsorted(f, edges), 1, f.size - 1)
@@ -174,7 +175,7 @@ def envelope_match(stimulus: np.ndarray, recording: np.ndarray, sample_rate_hz: 
     rp = np.pad(r, ((0, 0), (pad, pad)))  # 0 is each band's mean level: adds nothing to the sums
     nl = nr + pad  # lags in frames, from −pad to nr − 1
     n = int(2 ** np.ceil(np.log2(ns + rp.shape[1])))
-    c = np.fft.irfft(np.sum(np.fft.rfft(rp, n, axis=1) * np.conj(np.fft.rfft(s, n, axis=1)), axis=0), n)[:nl]
+    c = irfft(np.sum(rfft(rp, n, axis=1) * np.conj(rfft(s, n, axis=1)), axis=0), n)[:nl]
     e2 = np.concatenate(([0.0], np.cumsum(np.sum(rp * rp, axis=0))))
     win = np.sqrt(np.maximum(e2[ns:ns + nl] - e2[:nl], 1e-30))
     rho = c / (np.sqrt(np.sum(s * s)) * win)
@@ -207,7 +208,7 @@ def energy_match(stimulus: np.ndarray, recording: np.ndarray, sample_rate_hz: in
     es = np.sum(np.asarray(stimulus[: ns * hop], dtype=np.float64).reshape(ns, hop) ** 2, axis=1)
     er = np.sum(np.asarray(recording[: nr * hop], dtype=np.float64).reshape(nr, hop) ** 2, axis=1)
     n = int(2 ** np.ceil(np.log2(ns + nr)))
-    c = np.fft.irfft(np.fft.rfft(er, n) * np.conj(np.fft.rfft(es, n)), n)[: nr - ns + 1]
+    c = irfft(rfft(er, n) * np.conj(rfft(es, n)), n)[: nr - ns + 1]
     m = int(np.argmax(c))
     win = er[m:m + ns]
     den = float(np.sqrt(np.sum(es * es) * np.sum(win * win)))
@@ -229,10 +230,10 @@ def locate(reference: np.ndarray, recording: np.ndarray, *, expected_lag: float,
         return Match(lag=float(expected_lag), coefficient=0.0)
     ex = np.asarray(recording[lo: hi + nr], dtype=np.float64)
     n = int(2 ** np.ceil(np.log2(ex.size + nr)))
-    spec = np.fft.fft(ex, n) * np.conj(np.fft.fft(ref, n))
+    spec = fft(ex, n) * np.conj(fft(ref, n))
     spec[n // 2 + 1:] = 0.0
     spec[1: n // 2] *= 2.0
-    env = np.abs(np.fft.ifft(spec))[: hi - lo + 1]
+    env = np.abs(ifft(spec))[: hi - lo + 1]
     m = int(np.argmax(env))
     delta = 0.0
     if 0 < m < env.size - 1:

@@ -35,6 +35,7 @@ from typing import Optional
 import numpy as np
 
 from ..errors import MeasurementError
+from ..fourier import irfft, rfft
 
 __all__ = [
     "Deconvolution",
@@ -187,7 +188,7 @@ def stimulus_inverse(stimulus: np.ndarray, *, n_fft: int, sample_rate_hz: int,
     fs = int(sample_rate_hz)
     x = np.asarray(stimulus, dtype=np.float64)
     n = int(n_fft)
-    X = np.fft.rfft(x, n)
+    X = rfft(x, n)
     px = X.real**2 + X.imag**2
     f = np.arange(px.size) * fs / n
     lo, hi = float(band_hz[0]), float(band_hz[1])
@@ -216,7 +217,7 @@ def stimulus_inverse(stimulus: np.ndarray, *, n_fft: int, sample_rate_hz: int,
     inverse = np.conj(X) / (px + eps) * np.exp(1j * phase)
     for a in (X, inverse, px, limit, grid_hz):
         a.setflags(write=False)
-    limit_ir = np.fft.irfft(limit, 2 * (limit.size - 1))
+    limit_ir = irfft(limit, 2 * (limit.size - 1))
     return StimulusInverse(
         n_fft=n,
         stimulus_length=int(x.size),
@@ -275,8 +276,8 @@ def deconvolve(
     if y.size >= x.size and np.array_equal(y[:x.size], x) and not np.any(y[x.size:]):
         Y = inverse.spectrum  # the stimulus itself, zero-padded: the same transform, already made
     else:
-        Y = np.fft.rfft(y, n)
-    h = np.fft.irfft(Y * inverse.inverse, n)
+        Y = rfft(y, n)
+    h = irfft(Y * inverse.inverse, n)
     h.setflags(write=False)
     return Deconvolution(
         impulse_response=h,
@@ -312,13 +313,13 @@ def _coarse_minimum_phase(gain: np.ndarray, fs: int) -> tuple[np.ndarray, np.nda
     sums = np.add.reduceat(lg, np.minimum(edges[:-1], gain.size - 1))
     counts = np.maximum(np.diff(edges), 1)
     coarse = np.where(np.diff(edges) > 0, sums / counts, lg[np.minimum(edges[:-1], gain.size - 1)])
-    c = np.fft.irfft(coarse, _COARSE_N)
+    c = irfft(coarse, _COARSE_N)
     fold = np.zeros(_COARSE_N)
     fold[0] = c[0]
     fold[1:_COARSE_N // 2] = 2.0 * c[1:_COARSE_N // 2]
     fold[_COARSE_N // 2] = c[_COARSE_N // 2]
     grid = np.linspace(0.0, fs / 2.0, m)
-    return grid, np.exp(np.fft.rfft(fold, _COARSE_N))
+    return grid, np.exp(rfft(fold, _COARSE_N))
 
 
 def band_limit_response(deconvolution: Deconvolution, frequencies_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -413,7 +414,7 @@ def window_response(window: IRWindow, frequencies_hz: np.ndarray, sample_rate_hz
     buf[: seg.size - n_pre] = seg[n_pre:]
     if n_pre > 0:
         buf[nfft - n_pre:] = seg[:n_pre]
-    spec = np.fft.rfft(buf)
+    spec = rfft(buf)
     grid = np.arange(spec.size) * sample_rate_hz / nfft
     f = np.asarray(frequencies_hz, dtype=np.float64)
     return np.interp(f, grid, spec.real) + 1j * np.interp(f, grid, spec.imag)

@@ -22,6 +22,7 @@ from .. import validate
 from ..errors import MeasurementError, SignalValueError
 from ..findings import finding
 from ..results import Finding
+from ..fourier import rfft
 from . import align as _align
 from .deconvolve import (
     band_limit_response,
@@ -436,7 +437,7 @@ def _single_tone_harmonics(z: np.ndarray, fs: int, f0: float, offset_hz: float, 
     n = z.size
     w = np.hanning(n)
     nfft = int(2 ** np.ceil(np.log2(4 * n)))
-    mag = np.abs(np.fft.rfft(z * w, nfft))
+    mag = np.abs(rfft(z * w, nfft))
     bin_hz = fs / nfft
 
     def peak_near(f: float, half: float) -> tuple[float, float]:

@@ -32,6 +32,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import MeasurementError
+from ..fourier import rfft
 from ._framing import frames, parabolic_peak
 from .stimulus import ToneSet
 
@@ -181,7 +182,7 @@ def tone_offset(
     n = y.size
     w = np.hanning(n)
     nfft = int(2 ** np.ceil(np.log2(4 * n)))
-    mag = np.abs(np.fft.rfft(y * w, nfft))
+    mag = np.abs(rfft(y * w, nfft))
     top = float(mag.max()) if mag.size else 0.0
     if top <= 0.0:
         raise MeasurementError("The recording is silent where the stimulus tones should be.")
@@ -263,8 +264,8 @@ def track_tones(
     win = np.hanning(flen)
     nfft = 4 * flen
     bin_hz = fs / nfft
-    sx = np.abs(np.fft.rfft(fx * win, nfft, axis=1))
-    sy = np.abs(np.fft.rfft(fy * win, nfft, axis=1))
+    sx = np.abs(rfft(fx * win, nfft, axis=1))
+    sy = np.abs(rfft(fy * win, nfft, axis=1))
     norm = 2.0 / win.sum()
     top = float(max(sy.max(), 1e-300))
     logy = np.log(sy + top * 1e-12)

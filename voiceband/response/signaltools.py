@@ -20,6 +20,7 @@ import math
 from typing import Optional
 
 import numpy as np
+from ..fourier import ifft, rfft
 
 __all__ = ["analytic_signal", "welch_psd", "find_peaks"]
 
@@ -34,14 +35,14 @@ def analytic_signal(x, n: Optional[int] = None) -> np.ndarray:
     n = x.size if n is None else int(n)
     # The positive half comes from the real transform (half the work of a complex one); the
     # negative-frequency bins stay zero.
-    half = np.fft.rfft(x, n)
+    half = rfft(x, n)
     spec = np.zeros(n, dtype=np.complex128)
     top = n // 2 if n % 2 == 0 else (n + 1) // 2  # first bin not doubled (Nyquist, or the negative half)
     spec[0] = half[0]
     spec[1:top] = 2.0 * half[1:top]
     if n % 2 == 0:
         spec[n // 2] = half[n // 2]
-    return np.fft.ifft(spec)
+    return ifft(spec)
 
 
 def _periodic_hann(n: int) -> np.ndarray:
@@ -56,7 +57,7 @@ def welch_psd(x, sample_rate_hz: float, *, segment_length: int) -> tuple[np.ndar
     periodic Hann window, ``|X|^2 / (fs * sum(w^2))``, doubled except at DC (and Nyquist for an
     even length), averaged over the segments.  ``x`` must hold at least one segment.
     """
-    from numpy.fft import rfft, rfftfreq
+    from numpy.fft import rfftfreq
 
     x = np.asarray(x, dtype=np.float64)
     n = int(segment_length)

@@ -14,6 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import MeasurementError
+from ..fourier import rfft
 from ._framing import frames, moving_rms, parabolic_peak
 
 __all__ = [
@@ -176,7 +177,7 @@ def peak_frequency_track(x: np.ndarray, sample_rate_hz: int, *, frame_len: int |
     top = 0.0
     # A few hundred frames at a time: the spectra of a long sweep would take hundreds of MB.
     for a in range(0, count, _TRACK_BATCH):
-        spec = np.abs(np.fft.rfft(fr[a:a + _TRACK_BATCH] * win, nfft, axis=1)) ** 2
+        spec = np.abs(rfft(fr[a:a + _TRACK_BATCH] * win, nfft, axis=1)) ** 2
         i = 1 + np.argmax(spec[:, 1:], axis=1)  # never the DC bin
         top = max(top, float(spec.max()))
         idx[a:a + i.size] = i
@@ -223,7 +224,7 @@ def _tones_in(seg: np.ndarray, sample_rate_hz: int) -> tuple[np.ndarray, np.ndar
         return None
     w = np.hanning(n)
     nfft = int(2 ** np.ceil(np.log2(4 * n)))
-    mag = np.abs(np.fft.rfft(seg * w, nfft))
+    mag = np.abs(rfft(seg * w, nfft))
     top = float(mag[1:].max())
     if top <= 0.0:
         return None
