@@ -35,3 +35,70 @@ def test_where_beyond_matches_a_plain_comparison(n, db):
     assert np.array_equal(where_beyond(x, thr, np.maximum(mx, -mn), magnitude=True),
                           np.flatnonzero(np.abs(x) >= thr))
     assert where_beyond(x, 2 * peak, mx).size == 0
+
+
+def test_median_is_numpy_median_bit_for_bit():
+    # Reference: numpy.median (values, dtype, shape and NaN propagation must match exactly).
+    from voiceband.arrays import median
+
+    rng = np.random.default_rng(11)
+    for _ in range(2000):
+        shape = tuple(int(k) for k in rng.integers(1, 7, rng.integers(1, 4)))
+        a = rng.standard_normal(shape) * 10 ** rng.uniform(-5, 5)
+        kind = rng.integers(4)
+        if kind == 1:
+            a = np.round(a).astype(np.int64)
+        elif kind == 2:
+            a = a.astype(np.float32)
+        if kind != 1 and rng.random() < 0.3:
+            a.flat[rng.integers(a.size)] = np.nan
+        axis = None if rng.random() < 0.4 else int(rng.integers(-a.ndim, a.ndim))
+        want, got = np.median(a, axis=axis), median(a, axis=axis)
+        assert type(got) is type(want) and np.shape(got) == np.shape(want)
+        assert np.asarray(got).dtype == np.asarray(want).dtype
+        assert np.array_equal(np.asarray(got), np.asarray(want), equal_nan=True), (a, axis)
+
+
+def test_percentile_is_numpy_percentile_bit_for_bit():
+    # Reference: numpy.percentile, default linear method (values, shape, type and NaN handling).
+    from voiceband.arrays import percentile
+
+    rng = np.random.default_rng(12)
+    for _ in range(3000):
+        shape = tuple(int(k) for k in rng.integers(1, 9, rng.integers(1, 3)))
+        a = rng.standard_normal(shape) * 10 ** rng.uniform(-5, 5)
+        if rng.random() < 0.3:
+            a = np.round(a)
+        if rng.random() < 0.15:
+            a.flat[rng.integers(a.size)] = np.nan
+        if rng.random() < 0.4:
+            a = a.astype(np.float32)
+        choice = rng.integers(5)
+        q = (float(rng.uniform(0, 100)), list(rng.uniform(0, 100, 3)), [5.0, 50.0, 95.0], [0.0, 100.0], 100)[choice]
+        axis = None if rng.random() < 0.4 else int(rng.integers(-a.ndim, a.ndim))
+        want, got = np.percentile(a, q, axis=axis), percentile(a, q, axis=axis)
+        assert type(got) is type(want) and np.shape(got) == np.shape(want)
+        assert np.asarray(got).dtype == np.asarray(want).dtype
+        assert np.array_equal(np.asarray(got), np.asarray(want), equal_nan=True), (a, q, axis)
+
+
+def test_running_median_is_nanmedian_over_nan_padding():
+    # Reference: numpy.nanmedian over sliding windows of the data padded with NaN (bit for bit).
+    import warnings
+
+    from numpy.lib.stride_tricks import sliding_window_view
+
+    from voiceband.arrays import running_median
+
+    rng = np.random.default_rng(13)
+    for _ in range(1500):
+        n, span = int(rng.integers(1, 60)), int(rng.integers(0, 12))
+        a = rng.standard_normal(n) ** 2 * 10 ** rng.uniform(-8, 2)
+        if rng.random() < 0.5:
+            a = a.astype(np.float32)
+        pad = np.full(span, np.nan, dtype=a.dtype)
+        with np.errstate(all="ignore"), warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            want = np.nanmedian(sliding_window_view(np.concatenate((pad, a, pad)), 2 * span + 1), axis=1)
+        got = running_median(a, span)
+        assert got.dtype == want.dtype and np.array_equal(got, want), (n, span)

@@ -28,6 +28,7 @@ from typing import Optional
 
 import numpy as np
 
+from ..arrays import median
 from ..bands import BandLevels, exact_centre_hz
 from ..errors import MeasurementError
 from ..reference_spectra import REFERENCE_SPECTRA, effort_band_levels_db, reference_band_levels_db
@@ -652,7 +653,7 @@ def _edges_against(f, level_all, ref: BandLevels, label, drop_db, extra) -> Pass
     in_span = (common_f >= lo_pb * (1 - 1e-3)) & (common_f <= hi_pb * (1 + 1e-3))
     if np.count_nonzero(in_span) < _PASSBAND_BANDS:
         in_span = np.ones(common_f.size, dtype=bool)
-    level_pb = float(np.median(np.sort(smooth[in_span])[-_PASSBAND_BANDS:]))
+    level_pb = float(median(np.sort(smooth[in_span])[-_PASSBAND_BANDS:]))
     thr = level_pb - drop_db
     logf = np.log2(exact_centre_hz(common_f))
     i_max = int(np.flatnonzero(in_span)[np.argmax(smooth[in_span])])

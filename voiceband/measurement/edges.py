@@ -61,6 +61,8 @@ from typing import Optional
 
 import numpy as np
 
+from ..arrays import median
+
 __all__ = [
     "DROP_DB",
     "TALKER_SPREAD_DB",
@@ -244,18 +246,18 @@ def fine_edges(
     if np.count_nonzero(span) < POINTS_PER_OCTAVE // 2:
         span = ~hidden
     vals = np.sort(rs[span])[::-1]
-    pb = float(np.median(vals[: 2 * POINTS_PER_OCTAVE]))
+    pb = float(median(vals[: 2 * POINTS_PER_OCTAVE]))
     near_top = np.flatnonzero(span & (rs >= pb - 3.0))
     if TILT_CORRECTION and near_top.size >= POINTS_PER_OCTAVE:
         # The talker's own tilt against the reference, fitted over the passband, removed.
         k = np.polyfit(logf[near_top], rs[near_top], 1)[0]
-        mid = float(np.median(logf[near_top]))
+        mid = float(median(logf[near_top]))
         # Only above the passband's centre: a talker's source slope shows there, while
         # below it the talker's spectrum is shaped by its fundamental, which a straight
         # line fitted over the whole passband would carry down onto the lower edge.
         rs = rs - k * np.maximum(logf - mid, 0.0)
         vals = np.sort(rs[span])[::-1]
-        pb = float(np.median(vals[: 2 * POINTS_PER_OCTAVE]))
+        pb = float(median(vals[: 2 * POINTS_PER_OCTAVE]))
         near_top = np.flatnonzero(span & (rs >= pb - 3.0))
 
     # Where the walk out from the passband must stop: the speech is hidden in noise, or

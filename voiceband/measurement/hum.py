@@ -36,7 +36,7 @@ from typing import Optional
 
 import numpy as np
 
-from ..arrays import sorted_unique
+from ..arrays import median, percentile, running_median, sorted_unique
 from .. import validate
 from ..errors import SignalValueError
 from ..fourier import rfft
@@ -231,7 +231,7 @@ class _HumWindows:
             fk = k * mains
             excl = k * MAINS_TOLERANCE_HZ + 4.0 * df
             near = (np.abs(freqs - fk) <= MEDIAN_HALF_WIDTH_HZ) & (np.abs(freqs - fk) > excl)
-            bg[i] = float(np.median(psd[near]))
+            bg[i] = float(median(psd[near]))
         tiny = float(np.max(psd)) * 1e-15 + 1e-300
         bg = np.maximum(bg, tiny)
         # Coarse f0: maximise the summed log ratio of the comb to the local medians.
@@ -572,7 +572,7 @@ def subtract_line(spec: np.ndarray, kappa: float, length: int, *, refine: bool) 
         (np.concatenate((c.real, c.imag), axis=1), np.concatenate((s.real, s.imag), axis=1)), axis=2
     )                                                        # (kappas, 2 * bins, 2)
     coef = np.linalg.pinv(model) @ data                      # (kappas, 2, rows)
-    left = np.median(np.sum((data[None] - model @ coef) ** 2, axis=1), axis=1)
+    left = median(np.sum((data[None] - model @ coef) ** 2, axis=1), axis=1)
     best = int(np.argmin(left))
     c, s = line_model(np.arange(n_bins), kappas[best : best + 1], length)
     spec -= (coef[best, 0][:, None] * c + coef[best, 1][:, None] * s).astype(spec.dtype)
@@ -608,13 +608,9 @@ def steady_mains_lines(spec: np.ndarray, df: float) -> list[list[tuple[int, int]
     if c_count < _STEADY_MIN_CHUNKS or top < 2 * span + 2 or df > 10.0:
         return []
     power = np.abs(spec[:, :top]) ** 2
-    steady = np.percentile(power, _STEADY_PERCENTILE, axis=0)
-    padded = np.concatenate((np.full(span, np.nan), steady, np.full(span, np.nan)))
-    from numpy.lib.stride_tricks import sliding_window_view
-
-    with np.errstate(all="ignore"):
-        around = np.nanmedian(sliding_window_view(padded, 2 * span + 1), axis=1)
-    total = float(np.median(np.sum(np.abs(spec) ** 2, axis=1)))
+    steady = percentile(power, _STEADY_PERCENTILE, axis=0)
+    around = running_median(steady, span)
+    total = float(median(np.sum(np.abs(spec) ** 2, axis=1)))
     is_line = stands_out(steady, np.nan_to_num(around, nan=np.inf)) & (steady >= _MIN_SHARE * total)
     families = []
     for mains in MAINS_HZ:

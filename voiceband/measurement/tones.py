@@ -25,6 +25,8 @@ from typing import Optional, Sequence
 
 import numpy as np
 
+from ..arrays import median
+
 __all__ = [
     "CTCSS_TONES_HZ",
     "CTCSS_TOLERANCE",
@@ -116,7 +118,7 @@ def find_tones(psd, freqs_hz, *, low_hz: float = 20.0, high_hz: Optional[float] 
     if np.any(inner):
         ki = cand[inner]
         offsets = np.r_[np.arange(-h, -2), np.arange(3, h + 1)]
-        background[inner] = np.median(p[ki[:, None] + offsets[None, :]], axis=1)
+        background[inner] = median(p[ki[:, None] + offsets[None, :]], axis=1)
     found = []
     for k, bg_k in zip(cand.tolist(), background.tolist()):
         if math.isnan(bg_k):
@@ -124,7 +126,7 @@ def find_tones(psd, freqs_hz, *, low_hz: float = 20.0, high_hz: Optional[float] 
             window = np.r_[p[a:max(k - 2, a)], p[k + 3:b]]
             if window.size < 8:
                 continue
-            bg_k = float(np.median(window))
+            bg_k = float(median(window))
         bg = max(bg_k, tiny)
         prom = 10.0 * math.log10(max(p[k], tiny) / bg)
         if prom < LINE_PROMINENCE_DB:

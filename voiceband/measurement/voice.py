@@ -20,7 +20,7 @@ from typing import Optional
 
 import numpy as np
 
-from ..arrays import sorted_unique
+from ..arrays import percentile, sorted_unique
 from .. import validate
 from ..fastlen import next_fast_len
 from ..fourier import irfft, rfft
@@ -624,7 +624,7 @@ class VoiceReservoir:
         v = 2.0 ** path[np.isfinite(path)]
         if v.size >= _MIN_VOICED_FRAMES:
             # Second pass: only dips within the talker's range found by the first.
-            q25, q75 = np.percentile(v, [25.0, 75.0])
+            q25, q75 = percentile(v, [25.0, 75.0])
             lo, hi = math.log2(_RANGE_FLOOR * q25), math.log2(_RANGE_CEILING * q75)
             with np.errstate(invalid="ignore"):
                 inside = (log_f0 >= lo) & (log_f0 <= hi)
@@ -633,7 +633,7 @@ class VoiceReservoir:
         analysed = int(np.count_nonzero(loud.any(axis=1))) * self.chunk_length / fs
         if v.size < _MIN_VOICED_FRAMES:
             return VoiceResult(None, None, None, int(v.size), analysed)
-        p5, p50, p95 = np.percentile(v, [5.0, 50.0, 95.0])
+        p5, p50, p95 = percentile(v, [5.0, 50.0, 95.0])
         return VoiceResult(float(p50), float(p5), float(p95), int(v.size), analysed)
 
     @staticmethod

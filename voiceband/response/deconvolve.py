@@ -34,6 +34,7 @@ from typing import Optional
 
 import numpy as np
 
+from ..arrays import median
 from ..errors import MeasurementError
 from ..fourier import irfft, rfft
 
@@ -193,9 +194,9 @@ def stimulus_inverse(stimulus: np.ndarray, *, n_fft: int, sample_rate_hz: int,
     f = np.arange(px.size) * fs / n
     lo, hi = float(band_hz[0]), float(band_hz[1])
     inband = (f >= lo) & (f <= hi)
-    if not np.any(inband) or float(np.median(px[inband])) <= 0.0:
+    if not np.any(inband) or float(median(px[inband])) <= 0.0:
         raise MeasurementError("The stimulus sweep has no energy in its own band; it cannot be deconvolved.")
-    ref = float(np.median(px[inband]))
+    ref = float(median(px[inband]))
     # Distance outside the band in octaves, scaled so ε reaches the in-band level one
     # octave below f1 (a gentle low edge keeps the band-limited impulse short there) and
     # 1/12 octave above f2 (where harmonics and out-of-band noise must not be amplified).

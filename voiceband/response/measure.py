@@ -18,6 +18,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..arrays import median
 from .. import validate
 from ..errors import MeasurementError, SignalValueError
 from ..findings import finding
@@ -445,7 +446,7 @@ def _single_tone_harmonics(z: np.ndarray, fs: int, f0: float, offset_hz: float, 
         hi = min(mag.size - 1, int((f + half) / bin_hz) + 1)
         j = lo + int(np.argmax(mag[lo:hi]))
         ring = np.concatenate((mag[max(1, lo - (hi - lo)):lo], mag[hi:hi + (hi - lo)]))
-        return float(mag[j]), float(np.median(ring)) if ring.size else 0.0
+        return float(mag[j]), float(median(ring)) if ring.size else 0.0
 
     fund, _ = peak_near(f0 + offset_hz, 5.0)
     out = []

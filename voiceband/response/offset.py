@@ -31,6 +31,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..arrays import median
 from ..errors import MeasurementError
 from ..fourier import rfft
 from ._framing import frames, parabolic_peak
@@ -202,7 +203,7 @@ def tone_offset(
         ring_lo = max(1, j - int(6 * half / bin_hz))
         ring_hi = min(mag.size, j + int(6 * half / bin_hz) + 1)
         ring = np.concatenate((mag[ring_lo:max(ring_lo, j - int(2 * half / bin_hz))], mag[j + int(2 * half / bin_hz) + 1:ring_hi]))
-        floor = float(np.median(ring)) if ring.size else 0.0
+        floor = float(median(ring)) if ring.size else 0.0
         snr[i] = 20.0 * np.log10(np.exp(float(peak_log[0])) / max(floor, top * 1e-12))
     received = snr >= _TONE_SNR_DB
     if not np.any(received):
@@ -220,7 +221,7 @@ def tone_offset(
         ratio = float(1.0 / slope)
         offset = float(icpt * ratio)
         return ToneOffset(offset, se_icpt * ratio, ratio, found, received)
-    offset = float(np.median(f_r - f_s))
+    offset = float(median(f_r - f_s))
     return ToneOffset(offset, 0.0, None, found, received)
 
 
@@ -287,7 +288,7 @@ def track_tones(
         ey[:, i] = amp**2
         dev[:, i] = (j + delta) * bin_hz - f
         band = sy[:, max(1, lo - (hi - lo)):min(sy.shape[1], hi + (hi - lo))]
-        floor = np.median(band, axis=1) * norm
+        floor = median(band, axis=1) * norm
         snr[i] = 10.0 * np.log10(np.sum(ey[:, i]) / max(float(np.sum(floor**2)), 1e-300))
     with np.errstate(invalid="ignore", divide="ignore"):
         gain = np.sqrt(ey.sum(axis=0) / ex.sum(axis=0))
