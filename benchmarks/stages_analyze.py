@@ -53,7 +53,7 @@ def _imports() -> float:
         "import os, sys, tempfile, numpy as np, voiceband.cli.main\n"
         "from voiceband import audio\n"
         "from voiceband.analysis import analyze_file\n"
-        "from voiceband.report.serialize import dumps_json\n"
+        "from voiceband.serialize import dumps_json\n"
         "t = np.arange(48000) / 48000\n"
         "x = 0.3 * np.sin(2 * np.pi * 200 * t) * (np.sin(2 * np.pi * 2 * t) > 0)"
         " + 1e-3 * np.random.default_rng(1).standard_normal(t.size)\n"
@@ -88,7 +88,7 @@ def main() -> None:
     import voiceband.intelligibility as intel
     import voiceband.measurement.bandwidth as bw
     from voiceband import analysis, audio, findings
-    from voiceband.report import serialize
+    from voiceband import serialize
     from voiceband.results import InputInfo
 
     import voiceband.arrays as arrays

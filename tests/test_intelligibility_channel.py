@@ -22,7 +22,7 @@ from voiceband.intelligibility import (
     sii_vs_channel_snr,
     standard_speech_spectrum,
 )
-from voiceband.report.serialize import to_jsonable
+from voiceband.serialize import to_jsonable
 
 T3 = band_procedure("one-third-octave")
 U = standard_speech_spectrum("normal")

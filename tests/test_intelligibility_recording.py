@@ -24,7 +24,7 @@ from voiceband.intelligibility import (
     spectrum_to_band_level,
     standard_speech_spectrum,
 )
-from voiceband.report.serialize import dumps_json
+from voiceband.serialize import dumps_json
 
 # IEC 61260 nominal one-third-octave centres 25 Hz .. 20 kHz (common practice: the preferred-number series).
 IEC_CENTRES = np.array([25, 31.5, 40, 50, 63, 80, 100, 125, 160, 200, 250, 315, 400, 500, 630, 800, 1000, 1250,

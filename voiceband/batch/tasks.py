@@ -52,7 +52,7 @@ def analyse_task(path: str, channel: str, profile: Optional[str] = None) -> dict
     """
     try:
         from ..analysis import analyze_file
-        from ..report.serialize import to_jsonable
+        from ..serialize import to_jsonable
 
         result = analyze_file(path, channel=channel)
         doc = to_jsonable(result)

@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..analysis import analyze_signal
-from ..report.serialize import to_jsonable
+from ..serialize import to_jsonable
 from . import tasks  # noqa: F401  (the functions the workers run)
 
 

@@ -221,7 +221,7 @@ def guarded(fn: Optional[Callable[..., Any]] = None, *, options: Optional[Mappin
 
 def emit_json(data: Any, target: str | None, *, force: bool = False, make_folders: bool = False) -> None:
     """Write JSON to ``target``: ``-`` for stdout, else a file path (atomically)."""
-    from ..report.serialize import dumps_json, write_json
+    from ..serialize import dumps_json, write_json
 
     if target is None:
         return

@@ -1,7 +1,7 @@
 """JSON documents of the design bench (``voiceband chain``, ``compare``, ``sweep``), beside the design code.
 
 The key names documented in the commands' help are fixed (other tools read them); more may be added.
-Numbers stay numpy values here; :mod:`voiceband.report.serialize` turns NaN and infinities into null.
+Numbers stay numpy values here; :mod:`voiceband.serialize` turns NaN and infinities into null.
 """
 
 from __future__ import annotations

@@ -141,7 +141,7 @@ def changes(a: AnalysisResult, b: AnalysisResult, sii6_a: Optional[float], sii6_
 
 def report_json(take: TakeReport) -> dict:
     """The analyze JSON of a take plus ``verdicts`` and ``recommendations``."""
-    from .serialize import to_jsonable
+    from ..serialize import to_jsonable
 
     data = to_jsonable(take.result)
     data["verdicts"] = [
@@ -183,7 +183,7 @@ def write_report(report: Report, out: Union[str, os.PathLike], *, force: bool = 
     from .figures import FIGURES, figure_png, render_figures
     from .html import render_html
     from .markdown import render_markdown
-    from .serialize import dumps_json
+    from ..serialize import dumps_json
 
     out = Path(out)
     check_outputs(out, pdf=pdf, before=report.before is not None, force=force)

@@ -1,7 +1,7 @@
 """The JSON document of ``voiceband response`` (keys fixed by ``voiceband/schemas/response.schema.json``).
 
 Built here, beside the measurement, so the command line, an HTML report and a batch run
-write the same document; NaN becomes null when it is written (:mod:`voiceband.report.serialize`).
+write the same document; NaN becomes null when it is written (:mod:`voiceband.serialize`).
 """
 
 from __future__ import annotations

@@ -509,7 +509,7 @@ def generate(
     """
     from ..audio import write
     from ..outputs import atomic_output, check_writable, sweep_stale
-    from ..report.serialize import write_json
+    from ..serialize import write_json
 
     specs = _read_specs(spec_paths)
     out = Path(out_dir)

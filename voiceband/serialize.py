@@ -49,7 +49,7 @@ def to_jsonable(obj: Any) -> Any:
 def _text(s: str) -> str:
     if s.isascii():
         return s
-    from ..outputs import name_text
+    from .outputs import name_text
 
     return name_text(s)
 
@@ -61,7 +61,7 @@ def dumps_json(data: Any) -> str:
 
 def write_json(data: Any, path: Path, *, force: bool = False, make_folders: bool = False) -> Path:
     """Write JSON atomically; refuse to overwrite without ``force``."""
-    from ..outputs import atomic_output
+    from .outputs import atomic_output
 
     text = dumps_json(data)
     with atomic_output(path, force=force, make_folders=make_folders) as tmp:
