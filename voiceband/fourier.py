@@ -110,21 +110,20 @@ def _complex_input(x) -> np.ndarray:
     return x
 
 
-def fft(x, n: int | None = None, axis: int = -1) -> np.ndarray:
-    """Discrete Fourier transform, as :func:`numpy.fft.fft` (complex64 stays single precision)."""
+def _c2c(x, n: int | None, axis: int, forward: bool) -> np.ndarray:
     x = _complex_input(x)
     axis = axis % x.ndim if x.ndim else 0
     n = x.shape[axis] if n is None else int(n)
     if n < 1:
         raise ValueError(f"Invalid number of FFT data points ({n}) specified.")
-    return _ducc_fft().c2c(_fit(x, n, axis), axes=(axis,), forward=True, inorm=0, nthreads=1)
+    return _ducc_fft().c2c(_fit(x, n, axis), axes=(axis,), forward=forward, inorm=0 if forward else 2, nthreads=1)
+
+
+def fft(x, n: int | None = None, axis: int = -1) -> np.ndarray:
+    """Discrete Fourier transform, as :func:`numpy.fft.fft` (complex64 stays single precision)."""
+    return _c2c(x, n, axis, True)
 
 
 def ifft(x, n: int | None = None, axis: int = -1) -> np.ndarray:
     """Inverse discrete Fourier transform, as :func:`numpy.fft.ifft` (``1/n`` scaling)."""
-    x = _complex_input(x)
-    axis = axis % x.ndim if x.ndim else 0
-    n = x.shape[axis] if n is None else int(n)
-    if n < 1:
-        raise ValueError(f"Invalid number of FFT data points ({n}) specified.")
-    return _ducc_fft().c2c(_fit(x, n, axis), axes=(axis,), forward=False, inorm=2, nthreads=1)
+    return _c2c(x, n, axis, False)
