@@ -65,14 +65,64 @@ _FADE_OUT_OCTAVES = 1.0 / 24.0
 
 
 @dataclass(frozen=True)
-class SweepSignal:
-    """An exponential sine sweep, optionally framed by two marker chirps.
+class SweepLayout:
+    """An exponential sweep with its markers, checked but not rendered: :meth:`chunk` makes any
+    stretch of :attr:`SweepSignal.samples` on demand (the same samples), so a long sweep is written
+    in blocks with memory independent of its length.  Attributes as :class:`SweepSignal` (which
+    adds the rendered ``samples``)."""
+
+    sample_rate_hz: int
+    frames: int
+    start_hz: float
+    stop_hz: float
+    duration_s: float
+    level_dbfs: float
+    rate_constant_s: float
+    sweep_start_index: int
+    sweep_stop_index: int
+    marker_start_indices: tuple[int, ...]
+    marker_length: int
+    marker_band_hz: tuple[float, float] | None
+
+    def chunk(self, start: int, stop: int) -> np.ndarray:
+        """Samples ``start`` to ``stop`` of the whole test signal, at its level (float64)."""
+        a, b = int(start), int(stop)
+        fs = self.sample_rate_hz
+        x = np.zeros(b - a)
+        s0, s1 = self.sweep_start_index, self.sweep_stop_index
+        lo, hi = max(a, s0), min(b, s1)
+        if lo < hi:
+            n = s1 - s0
+            f1, lc = self.start_hz, self.rate_constant_s
+            idx = np.arange(lo - s0, hi - s0)
+            t = idx.astype(np.float64) / fs
+            core = np.sin(2.0 * np.pi * f1 * lc * np.expm1(t / lc))
+            n_in = min(int(round(lc * np.log(2.0) * _FADE_IN_OCTAVES * fs)), n // 4)
+            n_out = min(int(round(lc * np.log(2.0) * _FADE_OUT_OCTAVES * fs)), n // 4)
+            head = idx < n_in
+            core[head] *= _half_hann(n_in)[idx[head]]
+            if n_out > 0:
+                tail = idx >= n - n_out
+                core[tail] *= _half_hann(n_out)[::-1][idx[tail] - (n - n_out)]
+            x[lo - a:hi - a] = core
+        if self.marker_start_indices:
+            m = _marker(self.marker_band_hz[0], self.marker_band_hz[1], fs)
+            for m0 in self.marker_start_indices:
+                lo, hi = max(a, m0), min(b, m0 + m.size)
+                if lo < hi:
+                    x[lo - a:hi - a] = m[lo - m0:hi - m0]
+        return x * (10.0 ** (self.level_dbfs / 20.0))
+
+
+@dataclass(frozen=True)
+class SweepSignal(SweepLayout):
+    """An exponential sine sweep, optionally framed by two marker chirps, rendered.
 
     Attributes
     ----------
-    samples : numpy.ndarray
-        1-D float64 (read-only), full scale = ±1.0: the whole test signal.
     sample_rate_hz : int
+    frames : int
+        Length of the whole test signal in samples (``samples.size``).
     start_hz, stop_hz : float
         f1 and f2 of the sweep (``stop_hz`` after limiting below Nyquist).
     duration_s : float
@@ -89,20 +139,11 @@ class SweepSignal:
         Samples per marker (0 without markers).
     marker_band_hz : tuple of float, or None
         Start and stop frequency of the marker chirps.
+    samples : numpy.ndarray
+        1-D float64 (read-only), full scale = ±1.0: the whole test signal.
     """
 
     samples: np.ndarray
-    sample_rate_hz: int
-    start_hz: float
-    stop_hz: float
-    duration_s: float
-    level_dbfs: float
-    rate_constant_s: float
-    sweep_start_index: int
-    sweep_stop_index: int
-    marker_start_indices: tuple[int, ...]
-    marker_length: int
-    marker_band_hz: tuple[float, float] | None
 
     @property
     def sweep(self) -> np.ndarray:
@@ -213,58 +254,7 @@ def exponential_sweep(
                           level_dbfs=level_dbfs, markers=markers)
     x = layout.chunk(0, layout.frames)
     x.setflags(write=False)
-    # every attribute but the samples is the layout's own (the same names, checked once there)
-    return SweepSignal(samples=x, **{f.name: getattr(layout, f.name) for f in fields(SweepSignal) if f.name != "samples"})
-
-
-@dataclass(frozen=True)
-class SweepLayout:
-    """An exponential sweep with its markers, checked but not rendered: :meth:`chunk` makes any
-    stretch of :attr:`SweepSignal.samples` on demand (the same samples), so a long sweep is written
-    in blocks with memory independent of its length.  Attributes as :class:`SweepSignal`; ``frames``
-    is the whole length in samples."""
-
-    sample_rate_hz: int
-    frames: int
-    start_hz: float
-    stop_hz: float
-    duration_s: float
-    level_dbfs: float
-    rate_constant_s: float
-    sweep_start_index: int
-    sweep_stop_index: int
-    marker_start_indices: tuple[int, ...]
-    marker_length: int
-    marker_band_hz: tuple[float, float] | None
-
-    def chunk(self, start: int, stop: int) -> np.ndarray:
-        """Samples ``start`` to ``stop`` of the whole test signal, at its level (float64)."""
-        a, b = int(start), int(stop)
-        fs = self.sample_rate_hz
-        x = np.zeros(b - a)
-        s0, s1 = self.sweep_start_index, self.sweep_stop_index
-        lo, hi = max(a, s0), min(b, s1)
-        if lo < hi:
-            n = s1 - s0
-            f1, lc = self.start_hz, self.rate_constant_s
-            idx = np.arange(lo - s0, hi - s0)
-            t = idx.astype(np.float64) / fs
-            core = np.sin(2.0 * np.pi * f1 * lc * np.expm1(t / lc))
-            n_in = min(int(round(lc * np.log(2.0) * _FADE_IN_OCTAVES * fs)), n // 4)
-            n_out = min(int(round(lc * np.log(2.0) * _FADE_OUT_OCTAVES * fs)), n // 4)
-            head = idx < n_in
-            core[head] *= _half_hann(n_in)[idx[head]]
-            if n_out > 0:
-                tail = idx >= n - n_out
-                core[tail] *= _half_hann(n_out)[::-1][idx[tail] - (n - n_out)]
-            x[lo - a:hi - a] = core
-        if self.marker_start_indices:
-            m = _marker(self.marker_band_hz[0], self.marker_band_hz[1], fs)
-            for m0 in self.marker_start_indices:
-                lo, hi = max(a, m0), min(b, m0 + m.size)
-                if lo < hi:
-                    x[lo - a:hi - a] = m[lo - m0:hi - m0]
-        return x * (10.0 ** (self.level_dbfs / 20.0))
+    return SweepSignal(**{f.name: getattr(layout, f.name) for f in fields(SweepLayout)}, samples=x)
 
 
 def sweep_layout(
