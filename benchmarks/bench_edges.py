@@ -62,14 +62,15 @@ def _edge_fields(res):
 
 
 def _analyze_with_fine(samples, fs):
-    """``analyze_signal``'s result and the fine-spectrum edges behind it (their response
-    estimate on the log grid), from one pass of the same accumulator."""
+    """``analyze_signal``'s result, the fine-spectrum edges behind it (their response
+    estimate on the log grid) and the talker's fundamental (voice measurement), from one
+    pass of the same accumulator."""
     pipe = RecordingAccumulator(fs)
     for i in range(0, samples.size, audio.DEFAULT_BLOCK_FRAMES):
         pipe.update(samples[i:i + audio.DEFAULT_BLOCK_FRAMES])
     m = pipe.result()
     info = InputInfo("<bench>", fs, 1, "0", samples.size / fs, "memory", "FLOAT64")
-    return _combine(info, pipe, m), m.fine_edges
+    return _combine(info, pipe, m), m.fine_edges, m.voice
 
 
 def _departure(fine, ch, fs, true_hz, tol_frac):
@@ -82,6 +83,20 @@ def _departure(fine, ch, fs, true_hz, tol_frac):
     r = ch.response_db(np.array([true_hz * 0.999, true_hz * 1.001]), fs)
     slope = abs(float(r[1] - r[0])) / math.log2(1.001 / 0.999)
     return dep, slope * math.log2(1.0 + tol_frac)
+
+
+def _f0_region(true_hz, voice) -> str:
+    """Where a lower edge lies against the talker's measured fundamental."""
+    p5, med = voice.f0_p5_hz, voice.f0_median_hz
+    if not p5 or not med:
+        return "F0 unknown"
+    if true_hz < p5:
+        return "a below F0 p5"
+    if true_hz < 2.0 * med:
+        return "b below 2 x F0"
+    if true_hz < 3.0 * med:
+        return "c 2-3 x F0"
+    return "d above 3 x F0"
 
 
 def _has_finding(res, code) -> bool:
@@ -123,7 +138,7 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
         ch = os_.Channel(kind, order, low, high)
         case = os_.make_case(talker, fs, ch, snr_db=snr, noise=noise, seed=i, cache_dir=cache)
         label = f"{talker.name} {fs} {ch.name} snr={snr} {noise}"
-        res, fine = _analyze_with_fine(case.samples, fs)
+        res, fine, voice = _analyze_with_fine(case.samples, fs)
         lo, hi, lo_r, hi_r = _edge_fields(res)
         lo_ok, hi_ok = os_.edge_truth_valid(case)
         g = _group(ch)
@@ -137,7 +152,10 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
                 dep, allowed = _departure(fine, ch, fs, truth, tol)
                 departures[side].append((abs(dep), allowed, within, good_snr))
             if good_snr:
-                for group, what in (("engine", talker.engine), ("rate", f"{fs} Hz"), ("filter", ch.name.split()[0])):
+                groups = [("engine", talker.engine), ("rate", f"{fs} Hz"), ("filter", ch.name.split()[0])]
+                if side == "lower":
+                    groups.append(("truth re the talker's F0", _f0_region(truth, voice)))
+                for group, what in groups:
                     buckets[(side, group, what)][0] += int(within)
                     buckets[(side, group, what)][1] += 1
         counts["cases"] += 1
@@ -253,10 +271,11 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
         print(f"worst {key}: {err:+.2f} at {label}")
     print("\norder >= 4 at SNR >= 10 dB (and no noise): edges within tolerance, by talker engine, rate, filter")
     for side in ("upper", "lower"):
-        for group in ("engine", "rate", "filter"):
+        for group in ("engine", "rate", "filter", "truth re the talker's F0"):
             row = ", ".join(f"{what} {v[0]}/{v[1]}" for (sd, gr, what), v in sorted(buckets.items())
                             if sd == side and gr == group)
-            print(f"  {side} by {group}: {row}")
+            if row:
+                print(f"  {side} by {group}: {row}")
     print("order >= 4: the talker's departure at the true edge from the level the edge is read against,\n"
           "  against the dB the tolerance allows on that skirt (a level crossing can meet the tolerance\n"
           "  only where the departure is within it)")
