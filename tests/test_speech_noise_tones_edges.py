@@ -275,3 +275,30 @@ def test_low_edge_below_the_talkers_fundamental_is_reported_uncertain_not_null()
     assert e.low.hz is not None
     assert not e.low.certain and e.low.limited_by == "talker"
     assert e.low.range_hz[0] <= true_low <= e.low.range_hz[1]
+
+
+def test_gentle_low_edge_held_up_by_the_talkers_low_harmonics_stays_in_range():
+    # A 170 Hz voice whose low harmonics (up to 2 x F0) stand 12 dB above the reference (a
+    # strong fundamental region, as many voices have), through a 2nd-order Butterworth
+    # 500 Hz high-pass and 2.7 kHz low-pass.  The skirt is gentle (12 dB/octave), and the
+    # talker's own peak holds the response within 3 dB of the passband level below the
+    # filter's -10 dB point, so the passband seems to begin below the true edge.  The
+    # reported range must still hold the truth: the -10 dB point of the exact response
+    # (scipy.signal.butter + sosfreqz), relative to its largest gain.
+    from scipy import signal
+
+    fs, f0 = 16000, 170.0
+    freqs = np.arange(8193) * fs / 16384
+    sos = np.vstack([signal.butter(2, 500.0, "highpass", fs=fs, output="sos"),
+                     signal.butter(2, 2700.0, "lowpass", fs=fs, output="sos")])
+    _, h = signal.sosfreqz(sos, worN=freqs, fs=fs)
+    boost = np.where((freqs > 0.8 * f0) & (freqs < 2.1 * f0), 10 ** 1.2, 1.0)
+    psd = _comb_talker_psd(freqs, f0) * boost * np.abs(h) ** 2 + 1e-16
+    fine = np.geomspace(20, 2000, 20000)
+    _, hf = signal.sosfreqz(sos, worN=fine, fs=fs)
+    db = 20 * np.log10(np.abs(hf))
+    k = int(np.argmax(db))
+    true_low = fine[np.flatnonzero(db[:k] < db[k] - 10)[-1]]
+    e = fine_edges(freqs, psd, None, effort_index=0.0, f0_low_hz=0.9 * f0, f0_median_hz=f0)
+    assert e.low.hz is not None and not e.low.certain
+    assert e.low.range_hz[0] <= true_low <= e.low.range_hz[1]

@@ -43,8 +43,9 @@ the distance from a steep filter's -3 to its -20 dB point.  Here:
    reaches in to where the speech first falls below the noise itself (there a small error
    of the noise estimate moves the response by dB).  Within :data:`F0_REGION_SPACINGS`
    median F0 of the bottom the talker's own fundamental departs from any reference by
-   more than the usual spread, so a low range there reaches up to the passband's lower
-   end and, when its outer end lies there too, down to the bottom of the span ("talker").
+   more than the usual spread, so a low range there reaches up to that many F0 (even past
+   where the passband seems to begin) and, when its outer end lies there too, down to the
+   bottom of the span ("talker").
 7. **Knee.** The steepest slope of ``R`` inside the range (dB/octave) is reported; an edge
    whose range is wider than :data:`CERTAIN_RANGE_OCTAVES`, whose knee is gentler than
    :data:`STEEP_DB_PER_OCTAVE`, or that is limited by noise or the talker is marked
@@ -323,9 +324,11 @@ def fine_edges(
         if step < 0 and f0_median_hz and F0_REGION_SPACINGS and inner < F0_REGION_SPACINGS * f0_median_hz:
             # Near the talker's fundamental the talker departs from the reference by more
             # than the usual spread (the fundamental's own peak; the reference's lowest band
-            # is 160 Hz): the range reaches up to the passband's lower end or
-            # F0_REGION_SPACINGS x F0, whichever is lower.
-            inner = max(inner, min(float(grid[start]), F0_REGION_SPACINGS * float(f0_median_hz)))
+            # is 160 Hz): the range reaches up to F0_REGION_SPACINGS x F0, even past where
+            # the passband seems to begin: the talker's own strong low harmonics can hold the
+            # response within 3 dB of the passband level on a gentle skirt whose -10 dB
+            # point lies above that (a 2nd-order 500 Hz high-pass under a 170 Hz voice).
+            inner = max(inner, F0_REGION_SPACINGS * float(f0_median_hz))
             # ... and down to the bottom of the span when its outer end lies there too: the
             # talker's own drop towards its fundamental reads as a skirt.
             if outer < F0_REGION_SPACINGS * f0_median_hz:
