@@ -201,11 +201,12 @@ class RecordingAccumulator:
         if x.size == 0:
             return
         # Maxima and minima of short pieces, once: the level meter's sample and true peaks and
-        # the clipping detector's extremes and candidates all come from them.
-        peaks = piece_peaks(x)
+        # the clipping detector's extremes and candidates all come from them.  The same pass
+        # writes the float32 copy the framing, hum and F0 paths use.
+        peaks = piece_peaks(x, copy_to=self.activity.float32_slot(x.size))
         self.levels.update(x, peaks=peaks)
         self.clipping.update(x, peaks=peaks)
-        frames, bins, first, x32, ms = self.activity.update_frames(block)
+        frames, bins, first, x32, ms = self.activity.update_frames(x, converted=True)
         self.spectrum.update_frames(frames, bins, first)
         self.speech_noise.update(ms)
         self.hum.update(x32)

@@ -60,11 +60,13 @@ def piece_extremes(a: np.ndarray, *, lowest: bool = False, piece: int = PIECE) -
     return parts[0] if len(parts) == 1 else np.concatenate(parts)
 
 
-def piece_peaks(x: np.ndarray, *, chunk: int = 1 << 15) -> tuple[np.ndarray, np.ndarray]:
+def piece_peaks(x: np.ndarray, *, chunk: int = 1 << 15,
+                copy_to: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Maxima and minima of the consecutive :data:`PIECE`-sample pieces of 1-D ``x`` (not empty).
 
-    Both passes run over one cache-sized ``chunk`` (a multiple of :data:`PIECE`) at a time.
-    NaN in a piece makes its maximum and minimum NaN.
+    Both passes run over one cache-sized ``chunk`` (a multiple of :data:`PIECE`) at a time;
+    ``copy_to`` (an array of ``x``'s length, e.g. float32) receives a copy of ``x`` on the way,
+    while each chunk is in cache.  NaN in a piece makes its maximum and minimum NaN.
 
     >>> mx, mn = piece_peaks(np.r_[np.zeros(2048), 0.5, -0.25])
     >>> mx.tolist(), mn.tolist()
@@ -75,6 +77,8 @@ def piece_peaks(x: np.ndarray, *, chunk: int = 1 << 15) -> tuple[np.ndarray, np.
         xc = x[j:j + chunk]
         maxima.append(piece_extremes(xc))
         minima.append(piece_extremes(xc, lowest=True))
+        if copy_to is not None:
+            copy_to[j:j + chunk] = xc
     if len(maxima) == 1:
         return maxima[0], minima[0]
     return np.concatenate(maxima), np.concatenate(minima)

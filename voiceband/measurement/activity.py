@@ -261,14 +261,27 @@ class _Framer:
         self.nfft = int(nfft)
         self.hop = self.nfft // 2
         self._tail = np.zeros(0, dtype=np.float32)
+        self._prepared: np.ndarray | None = None
         self.frames_done = 0
 
-    def push(self, x: np.ndarray):
+    def prepare(self, n: int) -> np.ndarray:
+        """Where the next block's ``n`` samples go as float32, for a caller that converts them
+        itself (:meth:`push` with ``prepared=True`` then takes them from there)."""
+        t = self._tail.size
+        buf = np.empty(t + int(n), dtype=np.float32)
+        buf[:t] = self._tail
+        self._prepared = buf
+        return buf[t:]
+
+    def push(self, x: np.ndarray, *, prepared: bool = False):
         hop, nfft = self.hop, self.nfft
         t = self._tail.size
-        buf = np.empty(t + x.size, dtype=np.float32)
-        buf[:t] = self._tail
-        buf[t:] = x
+        if prepared:
+            buf, self._prepared = self._prepared, None
+        else:
+            buf = np.empty(t + x.size, dtype=np.float32)
+            buf[:t] = self._tail
+            buf[t:] = x
         n_new = (buf.size - nfft) // hop + 1 if buf.size >= nfft else 0
         first = self.frames_done
         if n_new == 0:
@@ -319,16 +332,22 @@ class ActivityAccumulator:
         self.counts = np.zeros(LEVEL_BIN_COUNT, dtype=np.int64)
         self.mean_square_sums = np.zeros(LEVEL_BIN_COUNT)
 
-    def update_frames(self, block):
+    def float32_slot(self, n: int) -> np.ndarray:
+        """Where the next block's ``n`` samples go as float32, for a caller that converts them
+        on its own pass; then call :meth:`update_frames` with ``converted=True``."""
+        return self._framer.prepare(n)
+
+    def update_frames(self, block, *, converted: bool = False):
         """Add a block; return its new frames, their level bins, the first frame's index, the
         block as float32, and the frames' mean squares (DC excluded).
 
         ``frames`` (read-only) and the float32 block are views valid until the next call.
         Used by :class:`voiceband.analysis.RecordingAccumulator` to share the framing and
-        the one conversion to float32.
+        the one conversion to float32 (``converted=True``: the block's float32 copy is
+        already in :meth:`float32_slot`).
         """
         x = validate.block(block)
-        frames, ms, first, x32 = self._framer.push(x)
+        frames, ms, first, x32 = self._framer.push(x, prepared=converted)
         bins = level_bins(ms)
         if bins.size:
             self.counts += np.bincount(bins, minlength=LEVEL_BIN_COUNT)
