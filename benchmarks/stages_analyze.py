@@ -8,11 +8,9 @@ imports
     ``sys.modules`` holds after one run of the analysis on a short signal);
 decode
     ``audio.blocks`` (libsndfile and the conversion to float64);
-piece peaks
-    the maxima and minima of short pieces of each block, shared by levels and clipping;
 levels, clipping, activity, spectrum, hum, voice
-    each accumulator's ``update`` over every block and its ``result`` at the end
-    (activity: the framing and frame levels; spectrum: the frame FFTs; voice: the reservoir
+    each accumulator's ``update`` over every block and its ``result`` at the end (levels:
+    also the peak pieces clipping uses and the float32 copy the framing uses; activity: the framing and frame levels; spectrum: the frame FFTs; voice: the reservoir
     while streaming, the YIN/pYIN analysis at the end, printed as "voice F0");
 bandwidth and edges, SII, sections and findings, JSON
     the rest of the command.
@@ -91,9 +89,6 @@ def main() -> None:
     from voiceband import serialize
     from voiceband.results import InputInfo
 
-    import voiceband.arrays as arrays
-
-    arrays.piece_peaks = _timed("piece peaks", arrays.piece_peaks)  # shared by levels and clipping
     bw.occupied_bandwidth = _timed("bandwidth and edges", bw.occupied_bandwidth)
     bw.passband_edges = _timed("bandwidth and edges", bw.passband_edges)
     intel.recording_intelligibility = _timed("SII", intel.recording_intelligibility)
@@ -135,7 +130,7 @@ def main() -> None:
     print(f"{a.file}: {pipe.samples / ai.sample_rate_hz / 3600:.3f} h at {ai.sample_rate_hz} Hz, "
           f"median of {a.repeat} runs")
     print(f"  {'imports (separate process)':28s} {imports:7.3f} s")
-    order = ["decode", "piece peaks", "levels and true peak", "clipping", "activity (framing)", "hum", "spectrum",
+    order = ["decode", "levels and true peak", "clipping", "activity (framing)", "hum", "spectrum",
              "voice reservoir", "voice F0", "bandwidth and edges", "SII", "sections and findings", "JSON"]
     for k in order + [k for k in runs if k not in order and k != "total (in process)"]:
         if k in runs:

@@ -26,15 +26,22 @@ def test_where_beyond_matches_a_plain_comparison(n, db):
 
     rng = np.random.default_rng(n)
     x = rng.standard_normal(n) * np.exp(rng.standard_normal(n))  # heavy-tailed, like speech
-    mx, mn = piece_peaks(x)
-    assert mx.max() == x.max() and mn.min() == x.min()
     peak = np.abs(x).max()
     thr = peak * 10 ** (-db / 20)
-    assert np.array_equal(where_beyond(x, thr, mx), np.flatnonzero(x >= thr))
-    assert np.array_equal(where_beyond(x, -thr, mn, lowest=True), np.flatnonzero(x <= -thr))
-    assert np.array_equal(where_beyond(x, thr, np.maximum(mx, -mn), magnitude=True),
-                          np.flatnonzero(np.abs(x) >= thr))
-    assert where_beyond(x, 2 * peak, mx).size == 0
+    # the default geometry, and pieces of whole envelope groups after a head piece (the level meter's)
+    for piece, offset in ((2048, 0), (2065, 0), (2048, 37), (2065, 58), (64, 1)):
+        p = piece_peaks(x, piece=piece, offset=offset)
+        mx, mn = p.maxima, p.minima
+        assert mx.max() == x.max() and mn.min() == x.min()
+        geo = dict(piece=piece, offset=p.offset)
+        assert np.array_equal(where_beyond(x, thr, mx, **geo), np.flatnonzero(x >= thr))
+        assert np.array_equal(where_beyond(x, -thr, mn, lowest=True, **geo), np.flatnonzero(x <= -thr))
+        assert np.array_equal(where_beyond(x, thr, np.maximum(mx, -mn), magnitude=True, **geo),
+                              np.flatnonzero(np.abs(x) >= thr))
+        assert where_beyond(x, 2 * peak, mx, **geo).size == 0
+        k = int(np.argmax(np.maximum(mx, -mn)))
+        at, length = p.bounds(k)
+        assert np.abs(x[at:at + length]).max() == peak
 
 
 def test_median_is_numpy_median_bit_for_bit():

@@ -194,17 +194,16 @@ class RecordingAccumulator:
             # before any float32 path turns them into infinities.
             measurable_samples(np.asarray(block), name="The samples", first_sample=self.samples,
                                sample_rate_hz=self.sample_rate_hz)
-        from .arrays import piece_peaks
         from .validate import block as checked_block
 
         x = checked_block(block)  # raises SignalValueError on a bad block before anything else sees it
         if x.size == 0:
             return
-        # Maxima and minima of short pieces, once: the level meter's sample and true peaks and
-        # the clipping detector's extremes and candidates all come from them.  The same pass
-        # writes the float32 copy the framing, hum and F0 paths use.
-        peaks = piece_peaks(x, copy_to=self.activity.float32_slot(x.size))
-        self.levels.update(x, peaks=peaks)
+        # One pass of the level meter over the block, in cache-sized chunks, also finds the
+        # maxima and minima of short pieces (its own sample and true peaks and the clipping
+        # detector's extremes and candidates come from them) and writes the float32 copy the
+        # framing, hum and F0 paths use.
+        peaks = self.levels.update(x, copy_to=self.activity.float32_slot(x.size))
         self.clipping.update(x, peaks=peaks)
         frames, bins, first, x32, ms = self.activity.update_frames(x, converted=True)
         self.spectrum.update_frames(frames, bins, first)

@@ -19,9 +19,11 @@ for bit (``tests/test_arrays.py``).
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
-__all__ = ["sorted_unique", "median", "percentile", "running_median", "piece_extremes", "piece_peaks", "where_beyond", "PIECE"]
+__all__ = ["sorted_unique", "median", "percentile", "running_median", "piece_extremes", "piece_peaks", "PiecePeaks", "where_beyond", "PIECE"]
 
 #: Samples per piece of :func:`piece_extremes` (cache-friendly; 16 pieces per 32768-sample chunk).
 PIECE = 2048
@@ -60,43 +62,75 @@ def piece_extremes(a: np.ndarray, *, lowest: bool = False, piece: int = PIECE) -
     return parts[0] if len(parts) == 1 else np.concatenate(parts)
 
 
-def piece_peaks(x: np.ndarray, *, chunk: int = 1 << 15,
-                copy_to: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
-    """Maxima and minima of the consecutive :data:`PIECE`-sample pieces of 1-D ``x`` (not empty).
+@dataclass(frozen=True)
+class PiecePeaks:
+    """Maxima and minima of the pieces of one block.
 
-    Both passes run over one cache-sized ``chunk`` (a multiple of :data:`PIECE`) at a time;
-    ``copy_to`` (an array of ``x``'s length, e.g. float32) receives a copy of ``x`` on the way,
-    while each chunk is in cache.  NaN in a piece makes its maximum and minimum NaN.
+    The pieces are ``[0, offset)`` when ``offset > 0``, then ``piece`` samples each from
+    ``offset`` on (the last may be shorter): one entry each in ``maxima`` and ``minima``.
+    """
 
-    >>> mx, mn = piece_peaks(np.r_[np.zeros(2048), 0.5, -0.25])
-    >>> mx.tolist(), mn.tolist()
+    maxima: np.ndarray
+    minima: np.ndarray
+    piece: int = PIECE
+    offset: int = 0
+
+    def bounds(self, k: int) -> tuple[int, int]:
+        """First sample and length of piece ``k`` (the length before the block's end cuts it)."""
+        if self.offset:
+            if k == 0:
+                return 0, self.offset
+            k -= 1
+        return self.offset + k * self.piece, self.piece
+
+
+def piece_peaks(x: np.ndarray, *, chunk: int = 1 << 15, piece: int = PIECE, offset: int = 0) -> PiecePeaks:
+    """:class:`PiecePeaks` of 1-D ``x`` (not empty).
+
+    Both passes run over one cache-sized ``chunk`` (rounded to whole pieces) at a time.  NaN in
+    a piece makes its maximum and minimum NaN.  (The level meter finds the same on its own pass.)
+
+    >>> p = piece_peaks(np.r_[np.zeros(2048), 0.5, -0.25])
+    >>> p.maxima.tolist(), p.minima.tolist()
     ([0.0, 0.5], [0.0, -0.25])
     """
+    offset = min(int(offset), x.size)
     maxima, minima = [], []
-    for j in range(0, x.size, chunk):
-        xc = x[j:j + chunk]
-        maxima.append(piece_extremes(xc))
-        minima.append(piece_extremes(xc, lowest=True))
-        if copy_to is not None:
-            copy_to[j:j + chunk] = xc
+    if offset:
+        maxima.append(np.array([x[:offset].max()]))
+        minima.append(np.array([x[:offset].min()]))
+    step = piece * max(1, chunk // piece)
+    for j in range(offset, x.size, step):
+        xc = x[j:j + step]
+        maxima.append(piece_extremes(xc, piece=piece))
+        minima.append(piece_extremes(xc, lowest=True, piece=piece))
     if len(maxima) == 1:
-        return maxima[0], minima[0]
-    return np.concatenate(maxima), np.concatenate(minima)
+        return PiecePeaks(maxima[0], minima[0], piece, offset)
+    return PiecePeaks(np.concatenate(maxima), np.concatenate(minima), piece, offset)
 
 
 def where_beyond(a: np.ndarray, thr: float, extremes: np.ndarray, *, lowest: bool = False,
-                 magnitude: bool = False, piece: int = PIECE) -> np.ndarray:
+                 magnitude: bool = False, piece: int = PIECE, offset: int = 0) -> np.ndarray:
     """Indices ``i`` (int64, ascending) with ``a[i] >= thr``, ``a[i] <= thr`` (``lowest``) or ``|a[i]| >= thr``.
 
     ``extremes`` are the maxima (minima with ``lowest``; maxima of ``|a|`` with ``magnitude``)
     of the pieces ``a[k*piece:(k+1)*piece]`` (the last may be shorter), as
-    :func:`piece_extremes` gives them; only the pieces whose extreme reaches ``thr`` are
-    compared, gathered as whole rows.
+    :func:`piece_extremes` gives them, or of the pieces of a :class:`PiecePeaks` with this
+    ``piece`` and ``offset``; only the pieces whose extreme reaches ``thr`` are compared,
+    gathered as whole rows.
 
     >>> a = np.array([0.1, 0.9, 0.2, 0.3, -0.95, 0.0, 0.99])
     >>> where_beyond(a, 0.9, piece_extremes(np.abs(a), piece=2), magnitude=True, piece=2).tolist()
     [1, 4, 6]
     """
+    if offset:
+        first = float(extremes[0])
+        rest = where_beyond(a[offset:], thr, extremes[1:], lowest=lowest, magnitude=magnitude, piece=piece)
+        if (first <= thr) if lowest else (first >= thr):
+            head = np.abs(a[:offset]) if magnitude else a[:offset]
+            found = np.flatnonzero(head <= thr if lowest else head >= thr).astype(np.int64)
+            return np.concatenate((found, rest + offset))
+        return rest + offset
     hit = np.flatnonzero(extremes <= thr) if lowest else np.flatnonzero(extremes >= thr)
     if hit.size == 0:
         return np.zeros(0, dtype=np.int64)

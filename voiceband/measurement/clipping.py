@@ -119,7 +119,7 @@ from typing import Optional
 
 import numpy as np
 
-from ..arrays import piece_peaks, sorted_unique, where_beyond
+from ..arrays import PiecePeaks, piece_peaks, sorted_unique, where_beyond
 from ..errors import SignalValueError
 from .. import validate
 
@@ -572,11 +572,11 @@ class ClippingAccumulator:
         self._tail = np.zeros(0)
         self._tail_len = 2 * self._min_run - 2
 
-    def update(self, block, *, peaks: Optional[tuple[np.ndarray, np.ndarray]] = None) -> None:
+    def update(self, block, *, peaks: Optional[PiecePeaks] = None) -> None:
         """Add the next block of samples (1-D, full scale = ±1.0).
 
-        ``peaks`` may hand over :func:`voiceband.arrays.piece_peaks` of the block when the caller
-        has them already (the orchestrator shares them with the level meter).
+        ``peaks`` may hand over the block's :class:`voiceband.arrays.PiecePeaks` when the caller
+        has them already (the level meter finds them on its pass).
 
         Raises
         ------
@@ -587,9 +587,11 @@ class ClippingAccumulator:
         n = x.size
         if n == 0:
             return
-        # Maxima and minima of 2048-sample pieces (arrays.piece_peaks); then each side's candidates, the samples at or beyond its
-        # final threshold (its extreme raised by this block), from only the pieces that reach it.
-        pmx, pmn = piece_peaks(x) if peaks is None else peaks
+        # Maxima and minima of short pieces (arrays.PiecePeaks); then each side's candidates,
+        # the samples at or beyond its final threshold (its extreme raised by this block), from
+        # only the pieces that reach it.
+        peaks = piece_peaks(x) if peaks is None else peaks
+        pmx, pmn = peaks.maxima, peaks.minima
         hi = float(pmx.max())
         lo = float(pmn.min())
         if not (math.isfinite(hi) and math.isfinite(lo)):
@@ -604,7 +606,7 @@ class ClippingAccumulator:
                                                         (max(self._sides[1].extreme, -lo), pmn, True))):
             if extreme > 0.0:
                 thr = -extreme * region if lowest else extreme * region
-                cand[k] = where_beyond(x, thr, pieces, lowest=lowest)
+                cand[k] = where_beyond(x, thr, pieces, lowest=lowest, piece=peaks.piece, offset=peaks.offset)
         self._side_update(self._sides[0], x, hi, cand[0], +1)
         self._side_update(self._sides[1], x, -lo, cand[1], -1)
         self._n += n

@@ -62,7 +62,7 @@ from typing import Optional
 
 import numpy as np
 
-from ..arrays import PIECE, piece_peaks, sorted_unique, where_beyond
+from ..arrays import PIECE, PiecePeaks, piece_extremes, sorted_unique, where_beyond
 from .. import validate
 from ..errors import SignalValueError
 from ..units import db_amplitude, db_power
@@ -321,15 +321,19 @@ class LevelsAccumulator:
         self._env_tail = np.zeros(0, dtype=np.float32)  # last `_hang` envelope values
         self._hist = np.zeros(_LADDER_BINS, dtype=np.int64)  # samples per ladder bin
         # Work buffers, sized for the block length (no state).
-        self._chunk = self._dec * -(-_CHUNK // self._dec)
+        # Peak pieces of whole envelope groups (about arrays.PIECE samples), so a chunk is whole
+        # pieces and whole groups at once.
+        self._piece = self._dec * max(1, round(PIECE / self._dec))
+        self._chunk = self._piece * max(1, _CHUNK // self._piece)
         self._abs_buf = np.empty(self._chunk)
 
     # ------------------------------------------------------------------ update
-    def update(self, block, *, peaks: Optional[tuple[np.ndarray, np.ndarray]] = None) -> None:
+    def update(self, block, *, copy_to: Optional[np.ndarray] = None) -> Optional[PiecePeaks]:
         """Add the next block of samples (1-D, full scale = ±1.0).
 
-        ``peaks`` may hand over :func:`voiceband.arrays.piece_peaks` of the block when the caller
-        has them already (the orchestrator shares them with the clipping detector).
+        Returns the block's :class:`voiceband.arrays.PiecePeaks`, found on the way (the
+        orchestrator hands them to the clipping detector); ``copy_to`` (an array of the block's
+        length, e.g. float32) receives a copy of the block while each chunk is in cache.
 
         Raises
         ------
@@ -340,7 +344,7 @@ class LevelsAccumulator:
         x = validate.block(block)
         n = x.size
         if n == 0:
-            return
+            return None
         d = self._dec
         g0 = self._n
         margin = 10.0 ** (-TRUE_PEAK_SEARCH_MARGIN_DB / 20.0)
@@ -348,10 +352,8 @@ class LevelsAccumulator:
         # The first `head` samples complete the envelope group left open by the
         # previous block; after them, chunk boundaries stay aligned to groups.
         head = min((d - self._grp_len) % d, n)
-        pmx, pmn = piece_peaks(x) if peaks is None else peaks
-        pm = np.maximum(pmx, -pmn)  # maxima of |x| per piece
-        best_piece = int(np.argmax(pm))
-        best = float(pm[best_piece])
+        piece = self._piece
+        maxima, minima = [], []
         sums = []
         sumsq = 0.0
         total = 0.0
@@ -364,6 +366,11 @@ class LevelsAccumulator:
                 continue
             xc = x[lo:hi]
             m = hi - lo
+            # The peak pieces (the head is one piece of its own), and the copy, while in cache.
+            maxima.append(piece_extremes(xc, piece=piece))
+            minima.append(piece_extremes(xc, lowest=True, piece=piece))
+            if copy_to is not None:
+                copy_to[lo:hi] = xc
             # einsum, not BLAS: a threaded BLAS stalls when the other cores are busy
             sumsq += float(np.einsum("i,i->", xc, xc))
             total += float(np.einsum("i->", xc))
@@ -407,14 +414,18 @@ class LevelsAccumulator:
 
         # Sample peak, then true peak around the candidates: the samples within the search
         # margin of the highest peak so far, from only the pieces that reach it.
+        peaks = PiecePeaks(np.concatenate(maxima), np.concatenate(minima), piece, head)
+        pm = np.maximum(peaks.maxima, -peaks.minima)  # maxima of |x| per piece
+        best_piece = int(np.argmax(pm))
+        best = float(pm[best_piece])
         if best > self._peak:
             self._peak = best
-            at = best_piece * PIECE
-            self._peak_index = g0 + at + int(np.argmax(np.abs(x[at:at + PIECE])))
+            at, length = peaks.bounds(best_piece)
+            self._peak_index = g0 + at + int(np.argmax(np.abs(x[at:at + length])))
         new = np.zeros(0, dtype=np.int64)
         if best >= thr and best > 0.0:
             thr = max(thr, best * margin)
-            new = where_beyond(x, thr, pm, magnitude=True)
+            new = where_beyond(x, thr, pm, magnitude=True, piece=piece, offset=head)
             if new.size > _PREFILTER_CANDIDATES:
                 # Keep local maxima of |x| (block-edge samples are checked later).  Only a saving
                 # of memory: the interpolation applies the same test to every candidate, so a
@@ -428,6 +439,7 @@ class LevelsAccumulator:
         self._sum += total
         self._n += n
         self._tail = np.concatenate((self._tail, x[-(_CTX_BEFORE + _CTX_AFTER):]))[-(_CTX_BEFORE + _CTX_AFTER):]
+        return peaks
 
     def _true_peak_candidates(self, x: np.ndarray, new: np.ndarray, g0: int, thr: float) -> None:
         """Interpolate around candidate samples whose look-ahead is complete.
