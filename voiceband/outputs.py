@@ -34,7 +34,6 @@ from __future__ import annotations
 import errno
 import os
 import re
-import secrets
 from pathlib import Path
 from typing import Iterable, Optional, Union
 
@@ -195,7 +194,8 @@ def _probe(folder: Path, dest: Path) -> None:
 
 def _tmp_name(dest: Path) -> str:
     suffix = dest.suffix if re.fullmatch(r"\.[A-Za-z0-9]{1,8}", dest.suffix or "") else ""
-    return f".vb-{os.getpid()}-{secrets.token_hex(4)}.part{suffix}"
+    # os.urandom(4).hex() is what secrets.token_hex(4) does, without importing secrets (10 ms)
+    return f".vb-{os.getpid()}-{os.urandom(4).hex()}.part{suffix}"
 
 
 def _is_write_failure(exc: BaseException) -> bool:
