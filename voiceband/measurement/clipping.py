@@ -505,13 +505,6 @@ class _Found:
     tol: float = 0.0  # tolerance below the level (noisy ceilings)
 
 
-def _joined(parts: list) -> np.ndarray:
-    """The index arrays of ``parts`` as one (ascending when each part is and they follow in order)."""
-    if not parts:
-        return np.zeros(0, dtype=np.intp)
-    return parts[0] if len(parts) == 1 else np.concatenate(parts)
-
-
 class ClippingAccumulator:
     """Streaming clipping detector (see the module docstring for the method).
 
