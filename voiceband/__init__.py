@@ -39,10 +39,11 @@ from .errors import (
     SignalValueError,
     VoicebandError,
 )
-from .results import AnalysisResult, Finding
 
 # public name -> (module, attribute), imported on first access
 _LAZY = {
+    "AnalysisResult": ("voiceband.results", "AnalysisResult"),
+    "Finding": ("voiceband.results", "Finding"),
     "analyze_file": ("voiceband.analysis", "analyze_file"),
     "analyze_signal": ("voiceband.analysis", "analyze_signal"),
     "analyze_file_detailed": ("voiceband.analysis", "analyze_file_detailed"),
