@@ -194,19 +194,21 @@ def stimulus_inverse(stimulus: np.ndarray, *, n_fft: int, sample_rate_hz: int,
     f = np.arange(px.size) * fs / n
     lo, hi = float(band_hz[0]), float(band_hz[1])
     inband = (f >= lo) & (f <= hi)
-    if not np.any(inband) or float(median(px[inband])) <= 0.0:
+    ref = float(median(px[inband])) if np.any(inband) else 0.0
+    if ref <= 0.0:
         raise MeasurementError("The stimulus sweep has no energy in its own band; it cannot be deconvolved.")
-    ref = float(median(px[inband]))
     # Distance outside the band in octaves, scaled so ε reaches the in-band level one
     # octave below f1 (a gentle low edge keeps the band-limited impulse short there) and
     # 1/12 octave above f2 (where harmonics and out-of-band noise must not be amplified).
+    # (in the band the ramp is 0: only the bins outside it are computed)
+    outside = np.flatnonzero(~inband)
     with np.errstate(divide="ignore"):
-        lf = np.log2(np.maximum(f, 1e-9))
+        lf = np.log2(np.maximum(f[outside], 1e-9))
     ramp = np.clip(np.maximum((np.log2(lo) - lf) / 1.0, (lf - np.log2(hi)) * 12.0), 0.0, 1.0)
     eps_in = ref * 10.0 ** (IN_BAND_REGULARISATION_DB / 10.0)
     eps = np.full(px.size, eps_in)
     out = ramp > 0.0
-    eps[out] = eps_in * (ref / eps_in) ** ramp[out]
+    eps[outside[out]] = eps_in * (ref / eps_in) ** ramp[out]
     # The regularisation limits the band by |X|²/(|X|² + ε), a zero-phase filter whose
     # ringing at f1 and f2 would run *before* the response peak, into the harmonic
     # windows and past the short pre-peak window.  Giving it minimum phase moves all its
