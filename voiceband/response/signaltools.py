@@ -20,7 +20,7 @@ import math
 from typing import Optional
 
 import numpy as np
-from ..fourier import ifft, rfft
+from ..fourier import irfft, rfft
 
 __all__ = ["analytic_signal", "welch_psd", "find_peaks"]
 
@@ -33,16 +33,19 @@ def analytic_signal(x, n: Optional[int] = None) -> np.ndarray:
     """
     x = np.asarray(x, dtype=np.float64)
     n = x.size if n is None else int(n)
-    # The positive half comes from the real transform (half the work of a complex one); the
-    # negative-frequency bins stay zero.
+    # The same thing in two real transforms (each half the work of a complex one): the real
+    # part is x itself, the imaginary part the Hilbert transform H{x}, whose spectrum is
+    # -j X(f) on the positive bins (0 at DC and at the Nyquist bin; irfft mirrors the rest).
     half = rfft(x, n)
-    spec = np.zeros(n, dtype=np.complex128)
-    top = n // 2 if n % 2 == 0 else (n + 1) // 2  # first bin not doubled (Nyquist, or the negative half)
-    spec[0] = half[0]
-    spec[1:top] = 2.0 * half[1:top]
+    half *= -1j
+    half[0] = 0.0
     if n % 2 == 0:
-        spec[n // 2] = half[n // 2]
-    return ifft(spec)
+        half[n // 2] = 0.0
+    out = np.zeros(n, dtype=np.complex128)
+    m = min(n, x.size)
+    out.real[:m] = x[:m]
+    out.imag[:] = irfft(half, n)
+    return out
 
 
 def _periodic_hann(n: int) -> np.ndarray:
