@@ -326,7 +326,7 @@ class HumAccumulator:
         h = kaiser_lowpass(m * k, self.low_rate_hz / 2.0, fs, beta=7.0)
         # Polyphase branches: output y[j] = sum_i R[j + i] . g_i, with R the rows of k samples
         # and g_i the i-th k-tap segment of the time-reversed filter.
-        self._g = [np.ascontiguousarray(seg) for seg in h[::-1].astype(np.float32).reshape(m, k)]
+        self._g_matrix = np.ascontiguousarray(h[::-1].astype(np.float32).reshape(m, k).T)  # (k, m), g_i in column i
         self._m = m
         self._paths = []
         for dur in _HUM_WINDOWS_S:
@@ -367,15 +367,18 @@ class HumAccumulator:
         k, m = self.decimation, self._m
         r = seg[: (n_out + m - 1) * k].reshape(n_out + m - 1, k)
         y = np.empty(n_out, dtype=np.float32)
-        # One matrix-vector product per polyphase branch, over cache-sized runs of rows
-        # (far cheaper here than one tall-skinny matrix product, which multithreaded
-        # BLAS handles badly).
-        step = max(1, 65536 // k)
+        # Per run of 1024 output rows, one product of the rows with all m branches at once
+        # (P[j, i] = R[j] . g_i), then y[j] = sum_i P[j + i, i]: the rows are read once instead
+        # of once per branch.  Runs this short stay on one BLAS thread; a tall-skinny product
+        # over a whole segment was handed to BLAS threads that stall when the other core is busy.
+        g = self._g_matrix
+        step = 1024
         for a in range(0, n_out, step):
             b = min(a + step, n_out)
-            acc = r[a:b] @ self._g[0]
+            p = r[a : b + m - 1] @ g  # (b - a + m - 1, m)
+            acc = p[0 : b - a, 0].copy()
             for i in range(1, m):
-                acc += r[a + i : b + i] @ self._g[i]
+                acc += p[i : i + b - a, i]
             y[a:b] = acc
         if not np.all(np.isfinite(y)):
             raise SignalValueError("the samples contain NaN or infinite values")
