@@ -109,3 +109,27 @@ def test_running_median_is_nanmedian_over_nan_padding():
             want = np.nanmedian(sliding_window_view(np.concatenate((pad, a, pad)), 2 * span + 1), axis=1)
         got = running_median(a, span)
         assert got.dtype == want.dtype and np.array_equal(got, want), (n, span)
+
+
+@pytest.mark.parametrize("n", [1, 100, 8191, 8192, 8193, 32768, 100_003])
+def test_sum_and_squares_match_exact_sums(n):
+    # Reference: math.fsum, the correctly rounded sum (Python standard library).
+    import math
+
+    from voiceband.arrays import sum_and_squares
+
+    x = np.random.default_rng(n).standard_normal(n) * 0.3 + 0.01
+    total, squares = sum_and_squares(x)
+    assert total == pytest.approx(math.fsum(x), rel=1e-12, abs=1e-12)
+    assert squares == pytest.approx(math.fsum(x * x), rel=1e-12)
+
+
+@pytest.mark.parametrize("rows, cols", [(1, 1), (3, 64), (129, 64), (1000, 59), (257, 11), (2, 9000)])
+def test_row_sums_match_numpy_sum(rows, cols):
+    # Reference: numpy.sum along the rows (pairwise summation); BLAS adds in another order.
+    from voiceband.arrays import row_sums
+
+    a = np.abs(np.random.default_rng(rows * cols).standard_normal((rows, cols)))
+    got = row_sums(a)
+    assert got.shape == (rows,)
+    np.testing.assert_allclose(got, a.sum(axis=1), rtol=1e-13)

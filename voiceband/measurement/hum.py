@@ -35,6 +35,7 @@ from dataclasses import dataclass
 from typing import Optional
 
 import numpy as np
+from numpy.lib.stride_tricks import as_strided
 
 from ..arrays import median, percentile, running_median, sorted_unique
 from .. import validate
@@ -375,11 +376,12 @@ class HumAccumulator:
         step = 1024
         for a in range(0, n_out, step):
             b = min(a + step, n_out)
-            p = r[a : b + m - 1] @ g  # (b - a + m - 1, m)
-            acc = p[0 : b - a, 0].copy()
-            for i in range(1, m):
-                acc += p[i : i + b - a, i]
-            y[a:b] = acc
+            p = r[a : b + m - 1] @ g  # (b - a + m - 1, m), C-contiguous
+            # diag[i, j] = p[j + i, i]; summed over i in order, as a loop of `acc += p[i:, i]`
+            # would, in one call
+            st = p.strides[0]
+            diag = as_strided(p, shape=(m, b - a), strides=(st + p.strides[1], st), writeable=False)
+            np.add.reduce(diag, axis=0, out=y[a:b])
         if not np.all(np.isfinite(y)):
             raise SignalValueError("the samples contain NaN or infinite values")
         return y

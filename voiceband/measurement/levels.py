@@ -62,7 +62,7 @@ from typing import Optional
 
 import numpy as np
 
-from ..arrays import PIECE, PiecePeaks, piece_extremes, sorted_unique, where_beyond
+from ..arrays import PIECE, PiecePeaks, piece_extremes, row_sums, sorted_unique, sum_and_squares, where_beyond
 from .. import validate
 from ..errors import SignalValueError
 from ..units import db_amplitude, db_power
@@ -371,16 +371,17 @@ class LevelsAccumulator:
             minima.append(piece_extremes(xc, lowest=True, piece=piece))
             if copy_to is not None:
                 copy_to[lo:hi] = xc
-            # einsum, not BLAS: a threaded BLAS stalls when the other cores are busy
-            sumsq += float(np.einsum("i,i->", xc, xc))
-            total += float(np.einsum("i->", xc))
+            # BLAS in calls small enough to stay on this thread (see voiceband.arrays)
+            t, q = sum_and_squares(xc)
+            total += t
+            sumsq += q
             ac = np.abs(xc, out=self._abs_buf[:m])
             if lo == 0 and head:
                 head_sum = float(ac.sum())
                 continue
             full = m - m % d
             if full:
-                sums.append(np.einsum("ij->i", ac[:full].reshape(-1, d)))
+                sums.append(row_sums(ac[:full].reshape(-1, d)))
             if full < m:
                 rest_sum, rest_len = float(ac[full:].sum()), m - full
         if not math.isfinite(sumsq):
