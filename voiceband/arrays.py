@@ -35,7 +35,7 @@ import numpy as np
 __all__ = ["sorted_unique", "median", "percentile", "running_median", "piece_extremes", "piece_peaks", "PiecePeaks", "where_beyond", "PIECE",
            "sum_and_squares", "row_sums", "BLAS_ONE_THREAD"]
 
-#: Samples per piece of :func:`piece_extremes` (cache-friendly; 16 pieces per 32768-sample chunk).
+#: Samples per piece of :func:`piece_extremes` (short enough that few pieces reach a peak threshold).
 PIECE = 2048
 
 #: Elements per BLAS call in :func:`sum_and_squares` and :func:`row_sums`: below OpenBLAS's sizes

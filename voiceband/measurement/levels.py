@@ -164,8 +164,10 @@ _ENVELOPE_FLOOR = 1e-20
 _BELOW_LADDER = np.float32(2.0 ** ((_LADDER_MIN - 0.5) / _LADDER_STEPS_PER_OCTAVE))
 # Envelope sample rate aimed at by the grouping of |x| (Hz).
 _ENVELOPE_RATE_HZ = 750.0
-# Samples per inner chunk of a block (256 KiB of float64: stays in L2 cache).
-_CHUNK = 1 << 15
+# Samples per inner chunk of a block (1 MiB of float64, in the last-level cache).  Measured per
+# million samples on the 2-core test machine: 4.3 ms at 2**15, 3.6 at 2**17 and 2**18, 4.1 at 2**19
+# (fewer numpy calls per sample against fewer cache hits).
+_CHUNK = 1 << 17
 # More true-peak candidates than this in a block are thinned to local maxima at once.
 _PREFILTER_CANDIDATES = 256
 
@@ -360,7 +362,7 @@ class LevelsAccumulator:
         edges = [0, head] if head else [0]
         edges.extend(range(head + self._chunk, n, self._chunk))
         edges.append(n)
-        # One cache-sized chunk at a time, so every pass after the first reads L2.
+        # One chunk at a time, so every pass after the first reads cache instead of memory.
         for lo, hi in zip(edges[:-1], edges[1:]):
             if hi <= lo:
                 continue
