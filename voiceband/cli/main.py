@@ -110,6 +110,9 @@ def main() -> None:
     if stdout_closed():
         sys.stderr.write("voiceband: standard output is closed; redirect it to a file or /dev/null instead.\n")
         sys.exit(EXIT_BAD_INPUT)
+    from .allocator import keep_large_blocks
+
+    keep_large_blocks()
     hint = _leading_dash_file(sys.argv[1:])
     app = _with_commands(_named_command(sys.argv[1:]))
     try:
