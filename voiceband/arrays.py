@@ -20,8 +20,9 @@ for bit (``tests/test_arrays.py``).
 :data:`BLAS_ONE_THREAD` elements.  On rows held in cache BLAS adds about twice as fast as
 ``numpy.einsum`` or ``numpy.add.reduce``; calls that small stay on the calling thread, where a
 larger one may hand half its work to a BLAS thread and wait for it when the other cores are busy.
-In the level meter's pass this took 3.3-3.4 ms per million samples to 2.6-2.9
-(``benchmarks/stages_analyze.py``: levels 0.69 -> 0.55 s per hour).
+In a pass like the level meter's this took 3.3-3.4 ms per million samples to 2.6-2.9; with the
+meter's longer chunks as well, its stage went from 0.76 to 0.61 s of CPU per hour
+(``benchmarks/stages_analyze.py``, the two versions run in turn).
 """
 
 from __future__ import annotations
