@@ -45,12 +45,26 @@ def moving_rms(x: np.ndarray, width: int) -> np.ndarray:
     """Centred moving RMS over ``width`` samples (same length as ``x``)."""
     x = np.asarray(x, dtype=np.float64)
     width = max(1, int(width))
-    c = np.concatenate(([0.0], np.cumsum(x * x)))
+    size = x.size
+    c = np.empty(size + 1)
+    c[0] = 0.0
+    np.cumsum(x * x, out=c[1:])
     half = width // 2
-    lo = np.clip(np.arange(x.size) - half, 0, x.size)
-    hi = np.clip(np.arange(x.size) - half + width, 0, x.size)
-    n = np.maximum(hi - lo, 1)
-    return np.sqrt(np.maximum(c[hi] - c[lo], 0.0) / n)
+    out = np.empty(size)
+    # Where the window lies wholly inside x (sample i sums c[i - half + width] - c[i - half]),
+    # by slices; near the ends, where it is cut, by clipped indices.
+    inner = max(0, size - width + 1)
+    if inner:
+        d = c[width:] - c[:size + 1 - width]
+        np.maximum(d, 0.0, out=d)
+        d /= width
+        out[half:half + inner] = np.sqrt(d)
+    rest = np.r_[0:min(half, size), half + inner:size] if inner else np.arange(size)
+    if rest.size:
+        lo = np.clip(rest - half, 0, size)
+        hi = np.clip(rest - half + width, 0, size)
+        out[rest] = np.sqrt(np.maximum(c[hi] - c[lo], 0.0) / np.maximum(hi - lo, 1))
+    return out
 
 
 def log_grid_hz(low_hz: float, high_hz: float, *, points_per_octave: int) -> np.ndarray:
