@@ -87,6 +87,15 @@ def test_synth_regeneration_is_identical_and_verify_detects_changes(tmp_path, sp
     assert "do not match" in msg
 
 
+@pytest.mark.parametrize("folder, expected", [("c" * 300, "longer than the file system allows"),
+                                              ("missing", "No manifest at")])
+def test_synth_verify_against_an_unreadable_folder_says_why(tmp_path, spec, folder, expected):
+    # Found by benchmarks/fuzz_all.py (seed 35): a folder name over NAME_MAX (255 bytes on ext4 and
+    # tmpfs, common practice) made --verify end in an internal error.
+    msg = _one_sentence_error(_run("synth", spec, "--out", tmp_path / folder, "--verify"))
+    assert expected in msg
+
+
 @pytest.mark.parametrize(
     "text, expected",
     [

@@ -552,8 +552,15 @@ def verify(
     """
     specs = _read_specs(spec_paths)
     mp = Path(manifest_path)
-    if not mp.is_file():
+    try:
+        missing = not mp.is_file()
+    except OSError:  # a name too long, a loop of links...: said by the input check below
+        missing = False
+    if missing:
         raise ChainFileError(f"No manifest at '{mp}'.")
+    from ..inputs import regular_file
+
+    regular_file(mp, what="a corpus manifest", error=ChainFileError)
     entries = _load_manifest(mp)
     out = []
     for s in specs:
