@@ -67,29 +67,32 @@ def _edge_fields(res):
 
 def _analyze_with_fine(samples, fs):
     """``analyze_signal``'s result, the fine-spectrum edges behind it (their response
-    estimate on the log grid) and the talker's fundamental (voice measurement), from one
-    pass of the same accumulator."""
+    estimate on the log grid), the talker's fundamental (voice measurement) and the inputs
+    ``fine_edges`` was given (:func:`fine_inputs`), from one pass of the same accumulator."""
     pipe = RecordingAccumulator(fs)
     for i in range(0, samples.size, audio.DEFAULT_BLOCK_FRAMES):
         pipe.update(samples[i:i + audio.DEFAULT_BLOCK_FRAMES])
     m = pipe.result()
     info = InputInfo("<bench>", fs, 1, "0", samples.size / fs, "memory", "FLOAT64")
-    return _combine(info, pipe, m), m.fine_edges, m.voice, m
+    return _combine(info, pipe, m), m.fine_edges, m.voice, fine_inputs(pipe, m)
 
 
-def fine_inputs(m) -> dict | None:
+def fine_inputs(pipe, m) -> dict | None:
     """The arguments ``analysis.RecordingAccumulator.result`` gave ``fine_edges`` (the pause
-    spectrum scaled to the measured noise power as there), or ``None`` without them."""
+    spectrum scaled to the measured noise power as there, or the quietest frames' spectrum
+    where no pauses stood out of the noise), or ``None`` without them."""
+    from voiceband.analysis import _quietest_bins
     from voiceband.measurement.speech_noise import noise_psd_at_level
 
     sp = m.spectrum
     if sp is None or sp.speech_psd_fs2_per_hz is None or m.edges is None or m.fine_edges is None:
         return None
-    noise = sp.noise_psd_fs2_per_hz
+    quiet = m.fine_edges.noise_from == "quietest frames"
+    noise = pipe.spectrum.psd_of(_quietest_bins(pipe.activity.counts)) if quiet else sp.noise_psd_fs2_per_hz
     sn = m.speech_noise
-    if noise is not None and sn is not None and sn.noise_power_fs2 is not None:
+    if not quiet and noise is not None and sn is not None and sn.noise_power_fs2 is not None:
         noise = noise_psd_at_level(noise, sp.freqs_hz, sn.noise_power_fs2)
-    return dict(freqs_hz=np.asarray(sp.freqs_hz), speech_psd=np.asarray(sp.speech_psd_fs2_per_hz),
+    return dict(quietest_frames=quiet, freqs_hz=np.asarray(sp.freqs_hz), speech_psd=np.asarray(sp.speech_psd_fs2_per_hz),
                 noise_psd=None if noise is None else np.asarray(noise),
                 effort_index=m.edges.effort_index, f0_low_hz=m.voice.f0_p5_hz,
                 f0_median_hz=m.voice.f0_median_hz)
@@ -161,14 +164,14 @@ def run(n_cases: int, seed: int, quick: bool, dump: Path | None = None) -> None:
         ch = os_.Channel(kind, order, low, high)
         case = os_.make_case(talker, fs, ch, snr_db=snr, noise=noise, seed=i, cache_dir=cache)
         label = f"{talker.name} {fs} {ch.name} snr={snr} {noise}"
-        res, fine, voice, m = _analyze_with_fine(case.samples, fs)
+        res, fine, voice, inputs = _analyze_with_fine(case.samples, fs)
         lo, hi, lo_r, hi_r = _edge_fields(res)
         lo_ok, hi_ok = os_.edge_truth_valid(case)
         if dump is not None:
             dumped.append(dict(label=label, engine=talker.engine, sample_rate_hz=fs, kind=kind, order=order,
                                snr_db=snr, noise=noise, true_low_hz=case.true_low_hz,
                                true_high_hz=case.true_high_hz, low_valid=lo_ok, high_valid=hi_ok,
-                               reported=(lo, hi, lo_r, hi_r), inputs=fine_inputs(m)))
+                               reported=(lo, hi, lo_r, hi_r), inputs=inputs))
         g = _group(ch)
         good_snr = snr is None or snr >= 10.0
         for side, ok_truth, est, truth in (("upper", hi_ok, hi, case.true_high_hz), ("lower", lo_ok, lo, case.true_low_hz)):

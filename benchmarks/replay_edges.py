@@ -54,6 +54,8 @@ def replay(cases: list) -> dict:
         fe = None if inp is None else edges_mod.fine_edges(
             inp["freqs_hz"], inp["speech_psd"], inp["noise_psd"], effort_index=inp["effort_index"],
             f0_low_hz=inp["f0_low_hz"], f0_median_hz=inp["f0_median_hz"])
+        if fe is not None and inp.get("quietest_frames"):
+            fe = edges_mod.noise_from_quietest_frames(fe)
         n["cases"] += 1
         if fe is None:
             # No fine edges (analyze then reports the one-third-octave edges, or none).
