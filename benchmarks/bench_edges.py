@@ -190,6 +190,7 @@ def run(n_cases: int, seed: int, quick: bool, dump: Path | None = None) -> None:
                     buckets[(side, group, what)][0] += int(within)
                     buckets[(side, group, what)][1] += 1
         counts["cases"] += 1
+        counts["quietest frames"] += int(fine is not None and fine.noise_from == "quietest frames")
         if hi_ok:
             counts[f"high valid {g}"] += 1
             if hi is None:
@@ -298,6 +299,7 @@ def run(n_cases: int, seed: int, quick: bool, dump: Path | None = None) -> None:
               f"null {misses[f'low null {g}']}, in range {counts[f'low in range {g}']}, "
               f"within max(8 %, 25 Hz) {counts[f'low within tol {g}']}")
     print(f"order >=4: high within 5 %: {counts['high within 5 % order >=4']} of {counts['high valid order >=4']}")
+    print(f"edges read against the quietest frames (no pauses stood out of the noise; uncertain): {counts['quietest frames']}")
     snr = np.array(stats.get("snr error dB (6-30 dB)", [np.nan]))
     print(f"SNR 6-30 dB: within 1.5 dB {int(np.sum(np.abs(snr) <= 1.5))} of {snr.size} (null {misses['snr null (6-30 dB)']})")
     print(f"SII series: {series} recordings x 9 noise levels, rises {rises}, worst rise {worst_rise:.4f}; "
