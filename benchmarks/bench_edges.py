@@ -20,7 +20,11 @@ dB the tolerance allows on that skirt), and the targets of issue 8:
 * SII never rises when noise is added (series 40 ... 0 dB SNR);
 * no hum finding on files without mains hum; CTCSS / test tones recognised.
 
-Usage: ``python benchmarks/bench_edges.py [--cases N] [--seed S] [--quick]``.
+Usage: ``python benchmarks/bench_edges.py [--cases N] [--seed S] [--quick] [--dump FILE]``.
+``--dump`` also writes each case's inputs of :func:`voiceband.measurement.edges.fine_edges`
+(fine speech and noise PSDs, fitted effort, the talker's F0) with its truth to FILE (a
+pickle), so ``benchmarks/replay_edges.py FILE`` re-reads the edges of the same cases with
+the current code in about a second instead of re-rendering and re-analysing them.
 Needs espeak-ng, flite and festival (``text2wave``) with festvox-kallpc16k.
 """
 
@@ -63,14 +67,35 @@ def _edge_fields(res):
 
 def _analyze_with_fine(samples, fs):
     """``analyze_signal``'s result, the fine-spectrum edges behind it (their response
-    estimate on the log grid) and the talker's fundamental (voice measurement), from one
-    pass of the same accumulator."""
+    estimate on the log grid), the talker's fundamental (voice measurement) and the inputs
+    ``fine_edges`` was given (:func:`fine_inputs`), from one pass of the same accumulator."""
     pipe = RecordingAccumulator(fs)
     for i in range(0, samples.size, audio.DEFAULT_BLOCK_FRAMES):
         pipe.update(samples[i:i + audio.DEFAULT_BLOCK_FRAMES])
     m = pipe.result()
     info = InputInfo("<bench>", fs, 1, "0", samples.size / fs, "memory", "FLOAT64")
-    return _combine(info, pipe, m), m.fine_edges, m.voice
+    return _combine(info, pipe, m), m.fine_edges, m.voice, fine_inputs(pipe, m)
+
+
+def fine_inputs(pipe, m) -> dict | None:
+    """The arguments ``analysis.RecordingAccumulator.result`` gave ``fine_edges`` (the pause
+    spectrum scaled to the measured noise power as there, or the quietest frames' spectrum
+    where no pauses stood out of the noise), or ``None`` without them."""
+    from voiceband.analysis import _quietest_bins
+    from voiceband.measurement.speech_noise import noise_psd_at_level
+
+    sp = m.spectrum
+    if sp is None or sp.speech_psd_fs2_per_hz is None or m.edges is None or m.fine_edges is None:
+        return None
+    quiet = m.fine_edges.noise_from == "quietest frames"
+    noise = pipe.spectrum.psd_of(_quietest_bins(pipe.activity.counts)) if quiet else sp.noise_psd_fs2_per_hz
+    sn = m.speech_noise
+    if not quiet and noise is not None and sn is not None and sn.noise_power_fs2 is not None:
+        noise = noise_psd_at_level(noise, sp.freqs_hz, sn.noise_power_fs2)
+    return dict(quietest_frames=quiet, freqs_hz=np.asarray(sp.freqs_hz), speech_psd=np.asarray(sp.speech_psd_fs2_per_hz),
+                noise_psd=None if noise is None else np.asarray(noise),
+                effort_index=m.edges.effort_index, f0_low_hz=m.voice.f0_p5_hz,
+                f0_median_hz=m.voice.f0_median_hz)
 
 
 def _departure(fine, ch, fs, true_hz, tol_frac):
@@ -108,7 +133,7 @@ def _sii(res):
     return None if intel is None else float(intel.sii)
 
 
-def run(n_cases: int, seed: int, quick: bool) -> None:
+def run(n_cases: int, seed: int, quick: bool, dump: Path | None = None) -> None:
     cache = Path(tempfile.mkdtemp(prefix="voiceband-bench-edges-"))
     os_.require_programs()
     rng = np.random.default_rng(seed)
@@ -119,6 +144,7 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
     worst_cases = {}
     buckets = defaultdict(lambda: [0, 0])  # (side, group, what) -> [within tolerance, cases], order >= 4, SNR >= 10 dB
     departures = defaultdict(list)  # side -> (|departure| dB, allowed dB, within tolerance)
+    dumped = []  # with --dump: each case's fine_edges inputs and truth
     t0 = time.perf_counter()
 
     def note(key, err, label):
@@ -138,9 +164,14 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
         ch = os_.Channel(kind, order, low, high)
         case = os_.make_case(talker, fs, ch, snr_db=snr, noise=noise, seed=i, cache_dir=cache)
         label = f"{talker.name} {fs} {ch.name} snr={snr} {noise}"
-        res, fine, voice = _analyze_with_fine(case.samples, fs)
+        res, fine, voice, inputs = _analyze_with_fine(case.samples, fs)
         lo, hi, lo_r, hi_r = _edge_fields(res)
         lo_ok, hi_ok = os_.edge_truth_valid(case)
+        if dump is not None:
+            dumped.append(dict(label=label, engine=talker.engine, sample_rate_hz=fs, kind=kind, order=order,
+                               snr_db=snr, noise=noise, true_low_hz=case.true_low_hz,
+                               true_high_hz=case.true_high_hz, low_valid=lo_ok, high_valid=hi_ok,
+                               reported=(lo, hi, lo_r, hi_r), inputs=inputs))
         g = _group(ch)
         good_snr = snr is None or snr >= 10.0
         for side, ok_truth, est, truth in (("upper", hi_ok, hi, case.true_high_hz), ("lower", lo_ok, lo, case.true_low_hz)):
@@ -159,6 +190,7 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
                     buckets[(side, group, what)][0] += int(within)
                     buckets[(side, group, what)][1] += 1
         counts["cases"] += 1
+        counts["quietest frames"] += int(fine is not None and fine.noise_from == "quietest frames")
         if hi_ok:
             counts[f"high valid {g}"] += 1
             if hi is None:
@@ -191,6 +223,13 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
             misses["hum finding without hum"] += 1
         if (i + 1) % 25 == 0:
             print(f"  {i + 1}/{n_cases} cases, {time.perf_counter() - t0:.0f} s", file=sys.stderr)
+
+    if dump is not None:
+        import pickle
+
+        with open(dump, "wb") as fh:
+            pickle.dump(dict(seed=seed, cases=dumped), fh)
+        print(f"  fine_edges inputs of {len(dumped)} cases written to {dump}", file=sys.stderr)
 
     # SII series: the same recording with more and more noise.
     series = 6 if quick else 16
@@ -260,6 +299,7 @@ def run(n_cases: int, seed: int, quick: bool) -> None:
               f"null {misses[f'low null {g}']}, in range {counts[f'low in range {g}']}, "
               f"within max(8 %, 25 Hz) {counts[f'low within tol {g}']}")
     print(f"order >=4: high within 5 %: {counts['high within 5 % order >=4']} of {counts['high valid order >=4']}")
+    print(f"edges read against the quietest frames (no pauses stood out of the noise; uncertain): {counts['quietest frames']}")
     snr = np.array(stats.get("snr error dB (6-30 dB)", [np.nan]))
     print(f"SNR 6-30 dB: within 1.5 dB {int(np.sum(np.abs(snr) <= 1.5))} of {snr.size} (null {misses['snr null (6-30 dB)']})")
     print(f"SII series: {series} recordings x 9 noise levels, rises {rises}, worst rise {worst_rise:.4f}; "
@@ -296,8 +336,10 @@ def main() -> None:
     ap.add_argument("--cases", type=int, default=160)
     ap.add_argument("--seed", type=int, default=8)
     ap.add_argument("--quick", action="store_true", help="fewer SII series and tone cases")
+    ap.add_argument("--dump", type=Path, default=None,
+                    help="write each case's fine_edges inputs and truth here (for replay_edges.py)")
     a = ap.parse_args()
-    run(a.cases, a.seed, a.quick)
+    run(a.cases, a.seed, a.quick, a.dump)
 
 
 if __name__ == "__main__":

@@ -171,6 +171,55 @@ def test_upper_edge_in_heavy_noise_is_uncertain_not_null(cache, talker, fs, ch, 
 
 
 @pytest.mark.parametrize("talker, fs, ch, snr", [
+    ("flite:slt", 16000, osp.Channel("butter", 6, 100.0, 2700.0), 0.0),
+    ("synthetic:low", 16000, osp.Channel("butter", 6, 100.0, 2700.0), -3.0),
+])
+def test_edges_without_pauses_are_uncertain_not_null(cache, talker, fs, ch, snr):
+    # Issue 8: no null edge below Nyquist.  In white noise this strong no pauses stand out
+    # of the noise (the activity finds no noise mode), so the noise is taken from the
+    # quietest frames; both edges are reported, uncertain and limited by noise, and their
+    # ranges hold the truth (the filter's exact -10 dB points, scipy sosfreqz).
+    c = _case(cache, talker, fs, ch, snr_db=snr, noise="white")
+    r = analyze_signal(c.samples, fs)
+    assert r.noise.floor_dbfs is None  # no pauses were found: the case this test is about
+    e = r.spectrum.edges_hz
+    assert "quietest frames" in e.method
+    for hz, rng, unc, lim, truth in ((e.low, e.low_range, e.low_uncertain, e.low_limited_by, c.true_low_hz),
+                                     (e.high, e.high_range, e.high_uncertain, e.high_limited_by, c.true_high_hz)):
+        assert hz is not None and unc and lim in ("noise", "talker")
+        assert rng[0] <= truth <= rng[1]
+    assert sum(f.code == "edge_uncertain" for f in r.findings) == 2
+    # A lower edge is said to lie above the talker's fundamental only when its whole range does.
+    assert not any(f.code == "highpass_above_f0" for f in r.findings)
+
+
+def test_highpass_above_f0_stated_when_the_whole_low_range_lies_above_it(cache):
+    # A steep 500 Hz high-pass (8th-order Butterworth, -10 dB point from scipy sosfreqz) under a
+    # low voice at 30 dB SNR: the lower edge and its whole range lie above the fundamental.
+    fs = 16000
+    c = _case(cache, "synthetic:low", fs, osp.Channel("butter", 8, 500.0, 3000.0), snr_db=30.0)
+    r = analyze_signal(c.samples, fs)
+    e = r.spectrum.edges_hz
+    assert e.low_range[0] <= c.true_low_hz <= e.low_range[1]
+    assert e.low_range[0] > r.voice.f0_median_hz
+    assert any(f.code == "highpass_above_f0" for f in r.findings)
+
+
+@pytest.mark.parametrize("signal", ["white noise", "two tones", "one tone"])
+def test_steady_signals_without_a_voice_get_no_edges(signal):
+    # The quietest-frames noise is for speech in strong noise only: noise alone or steady
+    # tones (levels that do not move as speech does, no voice) keep their edges unestimated.
+    fs = 16000
+    rng = np.random.default_rng(5)
+    t = np.arange(8 * fs) / fs
+    x = {"white noise": 0.05 * rng.standard_normal(t.size),
+         "two tones": 0.1 * np.sin(2 * np.pi * 400 * t) + 0.1 * np.sin(2 * np.pi * 1800 * t),
+         "one tone": 0.2 * np.sin(2 * np.pi * 150 * t)}[signal] + 1e-4 * rng.standard_normal(t.size)
+    e = analyze_signal(x, fs).spectrum.edges_hz
+    assert e.low is None and e.high is None
+
+
+@pytest.mark.parametrize("talker, fs, ch, snr", [
     ("flite:rms", 48000, osp.Channel("rc", 1, 200.0, 3000.0), 30.0),
     ("flite:slt", 44100, osp.Channel("butter", 2, 300.0, 2400.0), 30.0),
     ("synthetic:low", 48000, osp.Channel("butter", 2, 100.0, 3000.0), 15.0),

@@ -63,6 +63,15 @@ MAX_LISTED_CLIP_EVENTS = 1000
 TONE_FLOOR_DB = 50.0
 #: Low end of the span the occupied bandwidth is taken over (Hz); the high end is fs/2.
 OBW_SPAN_LOW_HZ = 20.0
+#: Speech in noise so strong that no pauses stand out of it (``classify_level_bins`` finds no
+#: noise mode): for the passband edges only, the noise is taken as the spectrum of the
+#: quietest frames, this fraction of them (a floor read from the quietest part of the level
+#: distribution, common practice where no pauses can be told apart) ...
+QUIET_FRAME_FRACTION = 0.1
+#: ... when a voice was found and the frame levels still move as speech does: the 90th
+#: percentile of the frame levels at least this far (dB) above the 10th (a steady tone or
+#: noise moves by a fraction of a dB).
+SPEECH_LEVEL_SPREAD_DB = 3.0
 
 if TYPE_CHECKING:  # typing only: the accumulators are imported when a pipeline is made
     from .measurement.activity import ActivityResult
@@ -218,7 +227,8 @@ class RecordingAccumulator:
         """Everything measured so far (does not change the accumulator)."""
         from .measurement.activity import classify_level_bins
         from .measurement.bandwidth import occupied_bandwidth, passband_edges
-        from .measurement.edges import fine_edges
+        from .measurement.edges import fine_edges, noise_from_quietest_frames
+        from .measurement.spectrum import third_octave_levels_db
         from .measurement.speech_noise import noise_psd_at_level
         from .measurement.tones import is_mains_comb, steady_tones
 
@@ -256,11 +266,25 @@ class RecordingAccumulator:
                                              span_hz=(OBW_SPAN_LOW_HZ, self.sample_rate_hz / 2.0))
                 except MeasurementError:
                     obw = None
-                if not steady:
+                quiet = None if not steady or voice.f0_median_hz is None else _quietest_bins(self.activity.counts)
+                if quiet is not None:
+                    # Speech in noise with no pauses standing out: the edges are read against the
+                    # quietest frames' spectrum as the noise, each marked uncertain (limited by
+                    # noise), rather than left null while the true edges may lie below Nyquist.
+                    quiet_psd = self.spectrum.psd_of(quiet)
+                    if quiet_psd is not None:
+                        edges = passband_edges(spectrum.speech_levels, noise=third_octave_levels_db(quiet_psd, freqs),
+                                               reference="auto")
+                        fine = fine_edges(freqs, spectrum.speech_psd_fs2_per_hz, quiet_psd,
+                                          effort_index=edges.effort_index, f0_low_hz=voice.f0_p5_hz,
+                                          f0_median_hz=voice.f0_median_hz)
+                        fine = None if fine is None else noise_from_quietest_frames(fine)
+                elif not steady:
                     edges = passband_edges(spectrum.speech_levels, noise=spectrum.noise_levels, reference="auto")
                     fine = fine_edges(freqs, spectrum.speech_psd_fs2_per_hz, noise_psd,
                                       effort_index=edges.effort_index, f0_low_hz=voice.f0_p5_hz,
                                       f0_median_hz=voice.f0_median_hz)
+                if edges is not None:
                     lo_hz = fine.low.hz if fine is not None else edges.low_hz
                     hi_hz = fine.high.hz if fine is not None else edges.high_hz
                     spectrum = spectrum.within_passband(lo_hz, hi_hz)
@@ -299,6 +323,24 @@ class RecordingAccumulator:
         with np.errstate(divide="ignore"):
             return (BandLevels(bands, 10.0 * np.log10(speech)),
                     BandLevels(bands, 10.0 * np.log10(p_noise)), None)
+
+
+def _quietest_bins(counts) -> Optional[np.ndarray]:
+    """The frame-level bins (1 dB, :func:`voiceband.measurement.activity.level_bin`) holding
+    the quietest :data:`QUIET_FRAME_FRACTION` of the frames, or ``None`` when the frame levels
+    do not move as speech does (90th percentile less than :data:`SPEECH_LEVEL_SPREAD_DB`
+    above the 10th) or the quietest frames are digital silence (bin 0)."""
+    c = np.asarray(counts, dtype=np.int64)
+    total = int(c.sum())
+    if total <= 0:
+        return None
+    cum = np.cumsum(c)
+    p10 = int(np.searchsorted(cum, 0.1 * total))
+    p90 = int(np.searchsorted(cum, 0.9 * total))
+    if p90 - p10 < SPEECH_LEVEL_SPREAD_DB or p10 == 0:
+        return None
+    last = int(np.searchsorted(cum, QUIET_FRAME_FRACTION * total))
+    return np.arange(c.size) <= last
 
 
 def measure_recording(x: np.ndarray, sample_rate_hz: float) -> Measurements:

@@ -239,7 +239,8 @@ def findings_for(
             add("edges_unknown")
     if voice.f0_median_hz is None:
         add("f0_unknown")
-    elif e.low is not None and e.low > voice.f0_median_hz:
+    elif e.low is not None and low_bottom is not None and low_bottom > voice.f0_median_hz:
+        # as the two above: only when the lower edge's whole range lies above the fundamental
         add("highpass_above_f0", low_hz=e.low, f0_hz=voice.f0_median_hz)
     if sii is not None and sii_rating:
         # the rating words carry the SII thresholds (intelligibility.recording.SII_RATING_THRESHOLDS)

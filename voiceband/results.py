@@ -239,11 +239,13 @@ class EdgesRecord:
                     return None
                 return (float(edge.range_hz[0]), float(edge.range_hz[1]))
 
+            noise = ("noise" if fine.noise_from == "pauses" else
+                     "the quietest frames' spectrum as the noise, no pauses standing out of it")
             return cls(
                 low=finite(fine.low.hz),
                 high=finite(fine.high.hz),
                 criterion_db=-fine.drop_db,
-                method=(f"fine long-term spectrum (speech minus noise, harmonic comb bridged, 1/12 octave) minus the "
+                method=(f"fine long-term spectrum (speech minus {noise}, harmonic comb bridged, 1/12 octave) minus the "
                         f"{fine.reference} reference speech spectrum with the talker's tilt removed; "
                         f"{fine.drop_db:g} dB below the passband level; ranges from +/-8 dB of talker departure"),
                 lowest_band_hz=float(fine.span_hz[0]),

@@ -57,7 +57,7 @@ Pure numpy; no I/O.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Optional
 
 import numpy as np
@@ -74,6 +74,7 @@ __all__ = [
     "FineEdges",
     "smooth_log_spectrum",
     "fine_edges",
+    "noise_from_quietest_frames",
 ]
 
 #: Edge criterion: dB below the passband level.
@@ -135,7 +136,12 @@ class Edge:
 
 @dataclass(frozen=True)
 class FineEdges:
-    """Both edges, the grid they were found on and the response estimate."""
+    """Both edges, the grid they were found on and the response estimate.
+
+    ``noise_from`` says what was subtracted as the noise: ``"pauses"`` (the pause frames'
+    spectrum) or ``"quietest frames"`` (no pauses stood out of the noise; see
+    :func:`noise_from_quietest_frames`).
+    """
 
     low: Edge
     high: Edge
@@ -144,6 +150,18 @@ class FineEdges:
     freqs_hz: np.ndarray
     response_db: np.ndarray
     span_hz: tuple
+    noise_from: str = "pauses"
+
+
+def noise_from_quietest_frames(fe: FineEdges) -> FineEdges:
+    """The edges of a recording whose noise could not be measured in pauses (none stood out of
+    it) and was taken as the spectrum of its quietest frames, which also hold weak speech:
+    the noise subtracted is then too high by an unknown amount wherever speech is weak, so
+    each edge is marked uncertain and limited by noise (its estimate and range kept)."""
+    def mark(e: Edge) -> Edge:
+        return replace(e, certain=False, limited_by=e.limited_by or "noise")
+
+    return replace(fe, low=mark(fe.low), high=mark(fe.high), noise_from="quietest frames")
 
 
 def smooth_log_spectrum(psd, freqs_hz, grid_hz, *, octaves: float = SMOOTH_OCTAVES) -> np.ndarray:
