@@ -32,7 +32,7 @@ def to_jsonable(obj: Any) -> Any:
     if isinstance(obj, np.bool_):
         return bool(obj)
     if isinstance(obj, np.ndarray):
-        return [to_jsonable(v) for v in obj.tolist()]
+        return _array(obj)
     if isinstance(obj, enum.Enum):
         return to_jsonable(obj.value)
     if dataclasses.is_dataclass(obj) and not isinstance(obj, type):
@@ -44,6 +44,26 @@ def to_jsonable(obj: Any) -> Any:
     if isinstance(obj, Path):
         return _text(str(obj))
     raise TypeError(f"cannot serialise {type(obj).__name__} to JSON")
+
+
+def _array(a: np.ndarray) -> list:
+    """A numeric array as (nested) lists of Python numbers, non-finite values as None.
+
+    The same as converting element by element, but numbers are converted by ``tolist`` at once
+    (a sweep measurement's JSON holds several thousand).
+    """
+    if a.ndim == 0:
+        return to_jsonable(a.item())
+    if a.dtype.kind in "biu":
+        return a.tolist()
+    if a.dtype.kind != "f":
+        return [to_jsonable(v) for v in a.tolist()]
+    if a.ndim > 1:
+        return [_array(row) for row in a]
+    values = a.tolist()
+    if not np.isfinite(a).all():
+        values = [v if math.isfinite(v) else None for v in values]
+    return values
 
 
 def _text(s: str) -> str:
