@@ -462,23 +462,60 @@ def deconvolved_noise_power(
     frequency the noise fills len(y) lags.  A window w collects Σw² times that.
     Divide a response's |H(f)|² by this to get its signal-to-noise ratio.
     """
-    from .signaltools import welch_psd
-
     fs = deconvolution.sample_rate_hz
-    nper = int(min(noise.size, 2 ** np.ceil(np.log2(0.05 * fs))))
-    f_w, p1 = welch_psd(np.asarray(noise, dtype=np.float64), fs, segment_length=nper)
-    s_two_sided = p1 * fs / 2.0  # one-sided density (units²/Hz) → two-sided per-sample
+    f_w, s_two_sided = _noise_density(noise, fs)
     f = np.asarray(frequencies_hz, dtype=np.float64)
     s = np.interp(f, f_w, s_two_sided)
     # Mean of 1/|X|² over the window's resolution bandwidth (N / window length bins).
     px = deconvolution.stimulus_power
-    with np.errstate(divide="ignore"):
-        inv = np.where(px > 0.0, 1.0 / np.maximum(px, 1e-300), 0.0)
     width = max(1, int(round(deconvolution.n_fft / window.taper.size)))
-    csum = np.concatenate(([0.0], np.cumsum(inv)))
+    csum = _inverse_power_sums(px)
     centre = np.clip(np.round(f * deconvolution.n_fft / fs).astype(np.int64), 0, px.size - 1)
     a = np.clip(centre - width // 2, 0, px.size)
     b = np.clip(a + width, 0, px.size)
     mean_inv = (csum[b] - csum[a]) / np.maximum(b - a, 1)
     energy = float(np.sum(window.taper**2))
     return energy * s * mean_inv
+
+
+# One measurement asks for the noise after deconvolution once per window (linear response and
+# each harmonic) with the same noise and the same stimulus: the two quantities that depend on
+# those alone are kept for the last read-only arrays seen (held weakly, so nothing outlives its
+# owner; read-only, so their values cannot have changed).
+_LAST_NOISE: list = [None, None, None]  # weak reference to the noise, rate, (freqs, density)
+_LAST_INVERSE: list = [None, None]  # weak reference to the stimulus power, cumulative sums
+
+
+def _noise_density(noise: np.ndarray, fs: int) -> tuple[np.ndarray, np.ndarray]:
+    """Welch estimate of ``noise`` as a two-sided density per sample, on its frequency grid (Hz)."""
+    import weakref
+
+    from .signaltools import welch_psd
+
+    ref, rate, got = _LAST_NOISE
+    if ref is not None and ref() is noise and rate == fs:
+        return got
+    keep = isinstance(noise, np.ndarray) and not noise.flags.writeable  # its values cannot change
+    nper = int(min(noise.size, 2 ** np.ceil(np.log2(0.05 * fs))))
+    f_w, p1 = welch_psd(np.asarray(noise, dtype=np.float64), fs, segment_length=nper)
+    got = (f_w, p1 * fs / 2.0)  # one-sided density (units²/Hz) → two-sided per-sample
+    if keep:
+        _LAST_NOISE[:] = [weakref.ref(noise), fs, got]
+    return got
+
+
+def _inverse_power_sums(px: np.ndarray) -> np.ndarray:
+    """Cumulative sums of 1/|X|² (0 where |X|² is 0), with a leading 0."""
+    import weakref
+
+    ref, got = _LAST_INVERSE
+    if ref is not None and ref() is px:
+        return got
+    keep = isinstance(px, np.ndarray) and not px.flags.writeable
+    with np.errstate(divide="ignore"):
+        inv = np.where(px > 0.0, 1.0 / np.maximum(px, 1e-300), 0.0)
+    got = np.concatenate(([0.0], np.cumsum(inv)))
+    got.setflags(write=False)
+    if keep:
+        _LAST_INVERSE[:] = [weakref.ref(px), got]
+    return got

@@ -221,7 +221,11 @@ def _quiet_stretch(z: np.ndarray, origin: int, ana: StimulusAnalysis, fs: int) -
         a, b = max(0, a), min(z.size, b)
         if b - a >= int(_MIN_QUIET_S * fs) and (best is None or b - a > best[1] - best[0]):
             best = (a, b)
-    return None if best is None else z[best[0]:best[1]]
+    if best is None:
+        return None
+    quiet = z[best[0]:best[1]].view()
+    quiet.setflags(write=False)  # read-only: the noise estimate made from it may be reused
+    return quiet
 
 
 def _find_sweep(x: np.ndarray, y: np.ndarray, ana: StimulusAnalysis, fs: int) -> _align.Match:
