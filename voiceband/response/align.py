@@ -29,7 +29,6 @@ methods, e.g. J. S. Bendat & A. G. Piersol, *Random Data*, 4th ed., Wiley 2010, 
 from __future__ import annotations
 
 from dataclasses import dataclass
-from fractions import Fraction
 
 import numpy as np
 
@@ -104,6 +103,8 @@ def resample_to_rate(x: np.ndarray, from_rate_hz: int, to_rate_hz: int) -> np.nd
     """
     if int(from_rate_hz) == int(to_rate_hz):
         return np.asarray(x, dtype=np.float64)
+    from fractions import Fraction
+
     from scipy.signal import resample_poly  # only here: importing scipy.signal costs about a second
 
     fr = Fraction(int(to_rate_hz), int(from_rate_hz))
@@ -119,6 +120,8 @@ def correct_clock(x: np.ndarray, clock_ratio: float) -> np.ndarray:
     r = float(clock_ratio)
     if abs(r - 1.0) < 1e-7:
         return np.asarray(x, dtype=np.float64)
+    from fractions import Fraction
+
     from scipy.signal import resample_poly  # only here: importing scipy.signal costs about a second
 
     fr = Fraction(1.0 / r).limit_denominator(4000)

@@ -340,12 +340,31 @@ def band_limit_response(deconvolution: Deconvolution, frequencies_hz: np.ndarray
     Divide a window's response by the gain (and subtract the group delay) to remove it.
     """
     grid = deconvolution.band_limit_hz
-    lim = deconvolution.band_limit
     f = np.asarray(frequencies_hz, dtype=np.float64)
-    mag = np.interp(f, grid, np.abs(lim))
-    ph = np.unwrap(np.angle(lim))
-    gd = -np.gradient(ph, 2.0 * np.pi * grid)
+    mag_grid, ph, gd = _band_limit_curves(deconvolution.band_limit, grid)
+    mag = np.interp(f, grid, mag_grid)
     return mag * np.exp(1j * np.interp(f, grid, ph)), np.interp(f, grid, gd)
+
+
+_LAST_LIMIT: list = [None, None, None]  # weak references to the band limit and its grid, curves
+
+
+def _band_limit_curves(lim: np.ndarray, grid: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """|limit|, unwrapped phase (rad) and group delay (s) on the coarse grid.
+
+    A measurement asks for them about ten times (each window, the stimulus's own analysis too)
+    with the same read-only arrays: the curves of the last such pair are kept (weakly).
+    """
+    import weakref
+
+    r_lim, r_grid, got = _LAST_LIMIT
+    if r_lim is not None and r_lim() is lim and r_grid() is grid:
+        return got
+    ph = np.unwrap(np.angle(lim))
+    got = (np.abs(lim), ph, -np.gradient(ph, 2.0 * np.pi * grid))
+    if not lim.flags.writeable and not grid.flags.writeable:
+        _LAST_LIMIT[:] = [weakref.ref(lim), weakref.ref(grid), got]
+    return got
 
 
 def _taper(n_pre: int, n_post: int) -> np.ndarray:
