@@ -43,7 +43,7 @@ from .errors import (
 # public name -> (module, attribute), imported on first access
 _LAZY = {
     "AnalysisResult": ("voiceband.results", "AnalysisResult"),
-    "Finding": ("voiceband.results", "Finding"),
+    "Finding": ("voiceband.findings", "Finding"),
     "analyze_file": ("voiceband.analysis", "analyze_file"),
     "analyze_signal": ("voiceband.analysis", "analyze_signal"),
     "analyze_file_detailed": ("voiceband.analysis", "analyze_file_detailed"),

@@ -14,18 +14,27 @@ source is named; they are collected here, once, so a reader can see and change t
 
 from __future__ import annotations
 
-from typing import Any, Optional
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any, Optional
 
-from .results import (
-    ClippingSection,
-    Finding,
-    LevelsSection,
-    NoiseSection,
-    SpectrumSection,
-    VoiceSection,
-)
+if TYPE_CHECKING:  # annotations only: a sweep measurement reports findings without the analysis records
+    from .results import ClippingSection, LevelsSection, NoiseSection, SpectrumSection, VoiceSection
 
-__all__ = ["THRESHOLDS", "FINDINGS", "finding", "findings_for"]
+__all__ = ["SEVERITIES", "Finding", "THRESHOLDS", "FINDINGS", "finding", "findings_for"]
+
+#: Severities of a finding, mildest first.
+SEVERITIES = ("info", "warning", "problem")
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One plain-language finding: a stable ``code`` (other tools read it), a severity from
+    :data:`SEVERITIES` and one sentence.  Analyze and response both report these; the
+    table of codes is :data:`FINDINGS`."""
+
+    code: str
+    severity: str  # one of SEVERITIES
+    message: str
 
 #: Decision thresholds (common practice unless noted).
 THRESHOLDS = {

@@ -15,6 +15,8 @@ import math
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, Optional
 
+from .findings import SEVERITIES, Finding  # the record lives with its table of codes
+
 if TYPE_CHECKING:  # typing only: the report types do not load the measurement modules
     from .intelligibility.recording import RecordingIntelligibility
     from .measurement.activity import ActivityResult
@@ -46,7 +48,6 @@ __all__ = [
 ]
 
 #: Finding severities, from least to most serious.
-SEVERITIES = ("info", "warning", "problem")
 
 
 def finite(v: Any) -> Optional[float]:
@@ -345,17 +346,6 @@ class VoiceSection:
     def of(cls, v: VoiceResult) -> "VoiceSection":
         """From a :class:`~voiceband.measurement.voice.VoiceResult`."""
         return cls(finite(v.f0_median_hz), finite(v.f0_p5_hz), finite(v.f0_p95_hz))
-
-
-@dataclass(frozen=True)
-class Finding:
-    """One plain-language finding: a stable ``code`` (other tools read it), a severity from
-    :data:`SEVERITIES` and one sentence.  Analyze and response both report these; the
-    table of codes is :data:`voiceband.findings.FINDINGS`."""
-
-    code: str
-    severity: str  # one of SEVERITIES
-    message: str
 
 
 @dataclass(frozen=True)

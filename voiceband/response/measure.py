@@ -21,8 +21,7 @@ import numpy as np
 from ..arrays import median
 from .. import validate
 from ..errors import MeasurementError, SignalValueError
-from ..findings import finding
-from ..results import Finding
+from ..findings import Finding, finding
 from ..fourier import rfft
 from . import align as _align
 from .deconvolve import (
