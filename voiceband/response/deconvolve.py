@@ -346,25 +346,17 @@ def band_limit_response(deconvolution: Deconvolution, frequencies_hz: np.ndarray
     return mag * np.exp(1j * np.interp(f, grid, ph)), np.interp(f, grid, gd)
 
 
-_LAST_LIMIT: list = [None, None, None]  # weak references to the band limit and its grid, curves
-
-
 def _band_limit_curves(lim: np.ndarray, grid: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """|limit|, unwrapped phase (rad) and group delay (s) on the coarse grid.
 
     A measurement asks for them about ten times (each window, the stimulus's own analysis too)
-    with the same read-only arrays: the curves of the last such pair are kept (weakly).
+    with the same read-only arrays: the curves of the last such pair are kept.
     """
-    import weakref
+    def curves():
+        ph = np.unwrap(np.angle(lim))
+        return np.abs(lim), ph, -np.gradient(ph, 2.0 * np.pi * grid)
 
-    r_lim, r_grid, got = _LAST_LIMIT
-    if r_lim is not None and r_lim() is lim and r_grid() is grid:
-        return got
-    ph = np.unwrap(np.angle(lim))
-    got = (np.abs(lim), ph, -np.gradient(ph, 2.0 * np.pi * grid))
-    if not lim.flags.writeable and not grid.flags.writeable:
-        _LAST_LIMIT[:] = [weakref.ref(lim), weakref.ref(grid), got]
-    return got
+    return _LAST_LIMIT.get((lim, grid), curves)
 
 
 def _taper(n_pre: int, n_post: int) -> np.ndarray:
@@ -497,44 +489,55 @@ def deconvolved_noise_power(
     return energy * s * mean_inv
 
 
-# One measurement asks for the noise after deconvolution once per window (linear response and
-# each harmonic) with the same noise and the same stimulus: the two quantities that depend on
-# those alone are kept for the last read-only arrays seen (held weakly, so nothing outlives its
-# owner; read-only, so their values cannot have changed).
-_LAST_NOISE: list = [None, None, None]  # weak reference to the noise, rate, (freqs, density)
-_LAST_INVERSE: list = [None, None]  # weak reference to the stimulus power, cumulative sums
+class _LastOf:
+    """The value last computed from some read-only arrays, held while those arrays live.
+
+    One measurement asks for the same quantity once per window (the linear response and each
+    harmonic) with the same arrays; the arrays are referred to weakly, so nothing outlives its
+    owner, and only read-only ones are remembered, so their values cannot have changed.
+    """
+
+    def __init__(self) -> None:
+        self._refs: tuple = ()
+        self._key: object = None
+        self._value: object = None
+
+    def get(self, arrays: tuple, compute, key: object = None):
+        if (self._refs and key == self._key and len(self._refs) == len(arrays)
+                and all(r() is a for r, a in zip(self._refs, arrays))):
+            return self._value
+        value = compute()
+        if all(isinstance(a, np.ndarray) and not a.flags.writeable for a in arrays):
+            import weakref
+
+            self._refs, self._key, self._value = tuple(weakref.ref(a) for a in arrays), key, value
+        return value
+
+
+_LAST_LIMIT = _LastOf()
+_LAST_NOISE = _LastOf()
+_LAST_INVERSE = _LastOf()
 
 
 def _noise_density(noise: np.ndarray, fs: int) -> tuple[np.ndarray, np.ndarray]:
     """Welch estimate of ``noise`` as a two-sided density per sample, on its frequency grid (Hz)."""
-    import weakref
+    def density():
+        from .signaltools import welch_psd
 
-    from .signaltools import welch_psd
+        nper = int(min(noise.size, 2 ** np.ceil(np.log2(0.05 * fs))))
+        f_w, p1 = welch_psd(np.asarray(noise, dtype=np.float64), fs, segment_length=nper)
+        return f_w, p1 * fs / 2.0  # one-sided density (units²/Hz) → two-sided per-sample
 
-    ref, rate, got = _LAST_NOISE
-    if ref is not None and ref() is noise and rate == fs:
-        return got
-    keep = isinstance(noise, np.ndarray) and not noise.flags.writeable  # its values cannot change
-    nper = int(min(noise.size, 2 ** np.ceil(np.log2(0.05 * fs))))
-    f_w, p1 = welch_psd(np.asarray(noise, dtype=np.float64), fs, segment_length=nper)
-    got = (f_w, p1 * fs / 2.0)  # one-sided density (units²/Hz) → two-sided per-sample
-    if keep:
-        _LAST_NOISE[:] = [weakref.ref(noise), fs, got]
-    return got
+    return _LAST_NOISE.get((noise,), density, key=fs)
 
 
 def _inverse_power_sums(px: np.ndarray) -> np.ndarray:
     """Cumulative sums of 1/|X|² (0 where |X|² is 0), with a leading 0."""
-    import weakref
-
-    ref, got = _LAST_INVERSE
-    if ref is not None and ref() is px:
+    def sums():
+        with np.errstate(divide="ignore"):
+            inv = np.where(px > 0.0, 1.0 / np.maximum(px, 1e-300), 0.0)
+        got = np.concatenate(([0.0], np.cumsum(inv)))
+        got.setflags(write=False)
         return got
-    keep = isinstance(px, np.ndarray) and not px.flags.writeable
-    with np.errstate(divide="ignore"):
-        inv = np.where(px > 0.0, 1.0 / np.maximum(px, 1e-300), 0.0)
-    got = np.concatenate(([0.0], np.cumsum(inv)))
-    got.setflags(write=False)
-    if keep:
-        _LAST_INVERSE[:] = [weakref.ref(px), got]
-    return got
+
+    return _LAST_INVERSE.get((px,), sums)
