@@ -172,3 +172,33 @@ def test_a_failing_check_is_never_called_fine(talker):
     recs = recommendations(r, prof, (Verdict("sii", 0.3, "pass at least 0.75", "fail", "too low."),), None)
     assert [x.code for x in recs] == ["review"] and "too low" in recs[0].text
     assert recommendations(r, prof, (Verdict("sii", 0.9, "pass at least 0.75", "pass", "fine."),), None)[0].code == "none"
+
+
+def test_an_uncertain_edge_that_decides_a_verdict_gets_the_sweep_advice(talker):
+    # A 300-2700 Hz chain judged for SSB voice; its upper edge then made uncertain with a wide range
+    # (as analyze reports a gentle roll-off) reaching into the profile's passing interval: the advice
+    # is to measure the chain with a sweep, with the transmitting caution. When the verdict passes,
+    # the edge is certain, or its whole range fails alike, no such advice.
+    from dataclasses import replace
+
+    from voiceband.profiles.verdicts import Verdict
+
+    r = _chain(talker, 300.0, 2700.0)
+    prof = load_profile("ssb-voice")
+    e = r.spectrum.edges_hz
+    unsure = replace(r, spectrum=replace(r.spectrum, edges_hz=replace(
+        e, high_uncertain=True, high_range=(2400.0, 3900.0))))
+    failing = (Verdict("upper_edge_hz", e.high, "pass 2700-3400 Hz", "fail", "too low."),)
+    recs = recommendations(unsure, prof, failing, None)
+    advice = [x for x in recs if x.code == "measure_edges"]
+    assert len(advice) == 1
+    assert "upper edge (2400–3900 Hz)" in advice[0].text and "voiceband response" in advice[0].text
+    assert "dummy load" in advice[0].text and "licence" in advice[0].text
+    passing = (Verdict("upper_edge_hz", e.high, "pass 2700-3400 Hz", "pass", "fine."),)
+    assert not any(x.code == "measure_edges" for x in recommendations(unsure, prof, passing, None))
+    certain = replace(r, spectrum=replace(r.spectrum, edges_hz=replace(e, high_uncertain=False)))
+    assert not any(x.code == "measure_edges" for x in recommendations(certain, prof, failing, None))
+    # a range wholly above the passing 2400-3600 Hz (the profile's own limits): the verdict stands either way
+    beyond = replace(r, spectrum=replace(r.spectrum, edges_hz=replace(
+        e, high_uncertain=True, high_range=(5000.0, 9000.0))))
+    assert not any(x.code == "measure_edges" for x in recommendations(beyond, prof, failing, None))

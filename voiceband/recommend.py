@@ -290,6 +290,20 @@ def recommendations(result: AnalysisResult, profile: Profile, verdicts: Sequence
             add("low_pass", f"Raise the low-pass towards {profile.passband_high_hz:.0f} Hz: the audio stops at "
                 f"{v_high.value:.0f} Hz and the 2–4 kHz bands carry much of the intelligibility "
                 "(ANSI S3.5-1997 Table 3 band importance).")
+    # An edge read from speech alone can be uncertain (a gentle roll-off, noise, the talker's own
+    # spectrum): where the verdict fails but the edge's range reaches into the passing interval, the
+    # verdict itself is in doubt, and a sweep through the chain measures the edge.
+    unsure = [(side, rng) for side, v, unc, rng, check in (
+                  ("lower", v_low, e.low_uncertain, e.low_range, "lower_edge_hz"),
+                  ("upper", v_high, e.high_uncertain, e.high_range, "upper_edge_hz"))
+              if v is not None and v.status != "pass" and unc and rng is not None
+              and rng[0] <= _upper_pass(profile, check) and rng[1] >= _lower_pass(profile, check)]
+    if unsure:
+        which = " and ".join(f"the {side} edge ({rng[0]:.0f}–{rng[1]:.0f} Hz)" for side, rng in unsure)
+        add("measure_edges", f"Measure the chain's passband before changing its filters: from speech alone "
+            f"{which} can only be bounded. Play a sweep (voiceband testsignal sweep) through the chain, record "
+            "its output and run voiceband response on the two files; into a dummy load where possible, within "
+            "your licence and the transmitter's duty cycle.")
     v_snr = _status(verdicts, "snr_db")
     if v_snr is not None and v_snr.status != "pass":
         add("noise", f"Track down the noise: the speech is only {v_snr.value:.0f} dB above the noise in the pauses. "
