@@ -266,24 +266,25 @@ class RecordingAccumulator:
                                              span_hz=(OBW_SPAN_LOW_HZ, self.sample_rate_hz / 2.0))
                 except MeasurementError:
                     obw = None
-                quiet = None if not steady or voice.f0_median_hz is None else _quietest_bins(self.activity.counts)
-                if quiet is not None:
-                    # Speech in noise with no pauses standing out: the edges are read against the
-                    # quietest frames' spectrum as the noise, each marked uncertain (limited by
-                    # noise), rather than left null while the true edges may lie below Nyquist.
-                    quiet_psd = self.spectrum.psd_of(quiet)
+                # The noise the edges are read against: the pauses'; or, in speech in noise with no
+                # pauses standing out, the quietest frames' spectrum, each edge then marked uncertain
+                # (limited by noise) rather than left null while the true edges may lie below Nyquist.
+                edge_noise = None
+                if not steady:
+                    edge_noise = (spectrum.noise_levels, noise_psd, False)
+                elif voice.f0_median_hz is not None:
+                    quiet = _quietest_bins(self.activity.counts)
+                    quiet_psd = None if quiet is None else self.spectrum.psd_of(quiet)
                     if quiet_psd is not None:
-                        edges = passband_edges(spectrum.speech_levels, noise=third_octave_levels_db(quiet_psd, freqs),
-                                               reference="auto")
-                        fine = fine_edges(freqs, spectrum.speech_psd_fs2_per_hz, quiet_psd,
-                                          effort_index=edges.effort_index, f0_low_hz=voice.f0_p5_hz,
-                                          f0_median_hz=voice.f0_median_hz)
-                        fine = None if fine is None else noise_from_quietest_frames(fine)
-                elif not steady:
-                    edges = passband_edges(spectrum.speech_levels, noise=spectrum.noise_levels, reference="auto")
-                    fine = fine_edges(freqs, spectrum.speech_psd_fs2_per_hz, noise_psd,
+                        edge_noise = (third_octave_levels_db(quiet_psd, freqs), quiet_psd, True)
+                if edge_noise is not None:
+                    noise_levels, edge_psd, from_quietest = edge_noise
+                    edges = passband_edges(spectrum.speech_levels, noise=noise_levels, reference="auto")
+                    fine = fine_edges(freqs, spectrum.speech_psd_fs2_per_hz, edge_psd,
                                       effort_index=edges.effort_index, f0_low_hz=voice.f0_p5_hz,
                                       f0_median_hz=voice.f0_median_hz)
+                    if from_quietest and fine is not None:
+                        fine = noise_from_quietest_frames(fine)
                 if edges is not None:
                     lo_hz = fine.low.hz if fine is not None else edges.low_hz
                     hi_hz = fine.high.hz if fine is not None else edges.high_hz

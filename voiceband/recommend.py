@@ -18,6 +18,7 @@ from typing import Any, Optional, Sequence
 
 import numpy as np
 
+from .cautions import TRANSMITTER_CAUTION
 from .profiles import Profile
 from .profiles.verdicts import Verdict
 from .results import AnalysisResult
@@ -302,8 +303,7 @@ def recommendations(result: AnalysisResult, profile: Profile, verdicts: Sequence
         which = " and ".join(f"the {side} edge ({rng[0]:.0f}–{rng[1]:.0f} Hz)" for side, rng in unsure)
         add("measure_edges", f"Measure the chain's passband before changing its filters: from speech alone "
             f"{which} can only be bounded. Play a sweep (voiceband testsignal sweep) through the chain, record "
-            "its output and run voiceband response on the two files; into a dummy load where possible, within "
-            "your licence and the transmitter's duty cycle.")
+            f"its output and run voiceband response on the two files. {TRANSMITTER_CAUTION}")
     v_snr = _status(verdicts, "snr_db")
     if v_snr is not None and v_snr.status != "pass":
         add("noise", f"Track down the noise: the speech is only {v_snr.value:.0f} dB above the noise in the pauses. "
