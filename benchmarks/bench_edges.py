@@ -10,7 +10,8 @@ clean speech's P.56 active level minus the added noise's RMS level.
 Prints the error distribution (median and worst) per quantity and filter order, where the
 steep-filter edge errors lie at good SNR (by talker engine, sample rate and filter), how far
 each talker departs at the true edge from the level the edge is read against (next to the
-dB the tolerance allows on that skirt), and the targets of issue 8:
+dB the tolerance allows on that skirt), how steeply each talker's own long-term spectrum
+falls and rises in 1.5-6 kHz (next to a channel skirt's slope), and the targets of issue 8:
 
 * order >= 4: upper -10 dB edge within 5 %, lower within max(8 %, 25 Hz);
 * order 1-2: the true edge inside the reported range (``edges_hz.low_range`` /
@@ -131,6 +132,40 @@ def _has_finding(res, code) -> bool:
 def _sii(res):
     intel = res.intelligibility
     return None if intel is None else float(intel.sii)
+
+
+#: Span (Hz) and window (octaves) of the talkers' own steepest long-term slopes.
+SLOPE_SPAN_HZ = (1500.0, 6000.0)
+SLOPE_WINDOW_OCTAVES = 1.0 / 6.0
+
+
+def talker_slopes(cache: Path) -> None:
+    """Print each talker's steepest fall and rise of its own (unfiltered, noise-free) fine
+    long-term spectrum in 1.5-6 kHz (below 0.4 x its native rate): level change over
+    :data:`SLOPE_WINDOW_OCTAVES`, in dB/octave, of the Welch PSD (80 ms Hann segments, scipy)
+    smoothed to 1/12 octave as ``fine_edges`` smooths it.  The knee of a channel edge tells
+    it apart from the talker only where the talker is gentler than the channel's skirt:
+    a Butterworth skirt of order n falls 6n dB/octave (24 for order 4, 48 for order 8;
+    common practice)."""
+    from scipy.signal import welch
+
+    from voiceband.measurement.edges import POINTS_PER_OCTAVE, smooth_log_spectrum
+
+    print("\ntalkers' own long-term spectra (clean, unfiltered): steepest change over "
+          f"{SLOPE_WINDOW_OCTAVES:.3g} octave in {SLOPE_SPAN_HZ[0]:.0f}-{SLOPE_SPAN_HZ[1]:.0f} Hz")
+    k = int(round(SLOPE_WINDOW_OCTAVES * POINTS_PER_OCTAVE))
+    falls = []
+    for talker in os_.ALL_TALKERS:
+        x, fs = os_.render_talker(talker, cache_dir=cache)
+        f, p = welch(x, fs, nperseg=int(2 ** round(math.log2(0.08 * fs))))
+        top = min(SLOPE_SPAN_HZ[1], 0.4 * fs)
+        grid = 2.0 ** np.arange(math.log2(SLOPE_SPAN_HZ[0]), math.log2(top), 1.0 / POINTS_PER_OCTAVE)
+        db = 10.0 * np.log10(smooth_log_spectrum(p, f, grid) + 1e-30)
+        slope = (db[k:] - db[:-k]) / SLOPE_WINDOW_OCTAVES
+        falls.append(float(-slope.min()))
+        print(f"  {talker.name:32s} native {fs:5d} Hz: fall {-slope.min():5.1f} dB/oct, rise {slope.max():5.1f} dB/oct")
+    print(f"  steeper than a 4th-order Butterworth skirt (24 dB/oct): {sum(v > 24.0 for v in falls)} of {len(falls)} talkers; "
+          f"than an 8th-order one (48 dB/oct): {sum(v > 48.0 for v in falls)}")
 
 
 def run(n_cases: int, seed: int, quick: bool, dump: Path | None = None) -> None:
@@ -329,6 +364,7 @@ def run(n_cases: int, seed: int, quick: bool, dump: Path | None = None) -> None:
             print(f"  {side:5s} {label:13s} n {len(v):3d}: median |departure| {np.median(dep):4.1f} dB, "
                   f"median allowed {np.median(allowed):4.1f} dB; departure within allowed {int(np.sum(dep <= allowed))}, "
                   f"edge within tolerance {sum(d[2] for d in v)}")
+    talker_slopes(cache)
 
 
 def main() -> None:
