@@ -1,7 +1,8 @@
 """Accuracy sweep of ``voiceband analyze`` on outside talkers in noise: edges, SNR, SII, tones.
 
 Cases (seeded, drawn from the grid below) come from ``tests/outside_speech.py``: espeak-ng,
-flite and festival voices and the project's synthetic speech, resampled to 8, 16, 44.1 and
+flite and festival voices, one human voice (alsa-utils' spoken channel names) and the
+project's synthetic speech, resampled to 8, 16, 44.1 and
 48 kHz, through Butterworth (orders 2-8), Chebyshev type I (order 4) and first-order RC
 band-passes with lower edges 100-500 Hz and upper edges 2-4 kHz, with white or pink noise
 at 0-30 dB SNR.  Truth: the filters' exact -10 dB points (scipy ``sosfreqz``) and the
@@ -26,7 +27,7 @@ Usage: ``python benchmarks/bench_edges.py [--cases N] [--seed S] [--quick] [--du
 (fine speech and noise PSDs, fitted effort, the talker's F0) with its truth to FILE (a
 pickle), so ``benchmarks/replay_edges.py FILE`` re-reads the edges of the same cases with
 the current code in about a second instead of re-rendering and re-analysing them.
-Needs espeak-ng, flite and festival (``text2wave``) with festvox-kallpc16k.
+Needs espeak-ng, flite and festival (``text2wave``) with festvox-kallpc16k, and alsa-utils.
 """
 
 from __future__ import annotations

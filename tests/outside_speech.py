@@ -8,7 +8,10 @@ Talkers
 * espeak-ng (formant synthesis) voices and variants, rendered at 22.05 kHz;
 * flite voices ``slt``, ``awb``, ``rms`` (16 kHz) and ``kal`` (8 kHz) / ``kal16`` (16 kHz);
 * festival ``text2wave`` with the ``kal_diphone`` voice (16 kHz, diphone concatenation);
-* the project's own synthetic speech (:func:`voiceband.synth.speech.synthesize_speech`).
+* the project's own synthetic speech (:func:`voiceband.synth.speech.synthesize_speech`);
+* one human talker: the spoken channel names that Debian's ``alsa-utils`` installs for
+  ``speaker-test`` (``/usr/share/sounds/alsa/*.wav``, 48 kHz, 16 bit; "Front Left" ... "Rear
+  Right", about 11 s of speech in all; not bundled, read where the package put them).
 
 Each sentence is rendered on its own and the sentences are joined with pauses of known
 length, as a talker's phrases are.  A missing program raises :class:`MissingTalker`
@@ -61,7 +64,8 @@ class MissingTalker(RuntimeError):
 #: The apt line that installs every outside talker (Debian package names).
 INSTALL_HINT = (
     "command -v espeak-ng >/dev/null && command -v flite >/dev/null && command -v text2wave >/dev/null "
-    "|| (apt-get update && apt-get install -y espeak-ng flite festival festvox-kallpc16k)"
+    "&& [ -f /usr/share/sounds/alsa/Front_Left.wav ] "
+    "|| (apt-get update && apt-get install -y espeak-ng flite festival festvox-kallpc16k alsa-utils)"
 )
 
 
@@ -95,14 +99,27 @@ FLITE_TALKERS = (
 )
 FESTIVAL_TALKERS = (Talker("festival", "kal_diphone"),)
 SYNTHETIC_TALKERS = (Talker("synthetic", "low"), Talker("synthetic", "high"))
-ALL_TALKERS = ESPEAK_TALKERS + FLITE_TALKERS + FESTIVAL_TALKERS + SYNTHETIC_TALKERS
+HUMAN_TALKERS = (Talker("human", "alsa-utils"),)
+ALL_TALKERS = ESPEAK_TALKERS + FLITE_TALKERS + FESTIVAL_TALKERS + SYNTHETIC_TALKERS + HUMAN_TALKERS
 
 _PROGRAM = {"espeak-ng": "espeak-ng", "flite": "flite", "festival": "text2wave"}
 
+#: The human talker's recordings (Debian package alsa-utils), in the order they are joined.
+ALSA_SOUNDS_DIR = Path("/usr/share/sounds/alsa")
+ALSA_WORDS = ("Front_Left", "Front_Center", "Front_Right", "Side_Left", "Side_Right",
+              "Rear_Left", "Rear_Center", "Rear_Right")
 
-def require_programs(engines=("espeak-ng", "flite", "festival")) -> None:
-    """Raise :class:`MissingTalker` naming the first engine whose program is not on PATH."""
+
+def require_programs(engines=("espeak-ng", "flite", "festival", "human")) -> None:
+    """Raise :class:`MissingTalker` naming the first engine whose program (or, for the human
+    talker, recording) is not installed."""
     for e in engines:
+        if e == "human":
+            missing = [w for w in ALSA_WORDS if not (ALSA_SOUNDS_DIR / f"{w}.wav").is_file()]
+            if missing:
+                raise MissingTalker(f"{ALSA_SOUNDS_DIR / missing[0]}.wav is not installed (needed for the human "
+                                    f"talker); install with: {INSTALL_HINT}")
+            continue
         prog = _PROGRAM[e]
         if shutil.which(prog) is None:
             raise MissingTalker(f"'{prog}' is not installed (needed for the {e} talkers); install with: {INSTALL_HINT}")
@@ -147,6 +164,19 @@ def render_talker(talker: Talker, *, sentences: int = 4, cache_dir: Optional[Pat
 
         fs = 48000
         x = synthesize_speech(3.0 * sentences, fs, voice=talker.voice, seed=sentences)
+    elif talker.engine == "human":
+        # Every word, whatever ``sentences`` asks: there are only about 11 s of them.
+        require_programs(("human",))
+        x, fs = [], None
+        for i, w in enumerate(ALSA_WORDS):
+            y, r = sf.read(str(ALSA_SOUNDS_DIR / f"{w}.wav"), dtype="float64", always_2d=True)
+            if fs is None:
+                fs = r
+            elif r != fs:
+                raise MissingTalker(f"{w}.wav is at {r} Hz, the others at {fs} Hz")
+            x += [np.zeros(int(PAUSES_S[i % len(PAUSES_S)] * fs)), y[:, 0]]
+        x.append(np.zeros(int(PAUSES_S[len(ALSA_WORDS) % len(PAUSES_S)] * fs)))
+        x = np.concatenate(x)
     else:
         parts = []
         fs = None

@@ -1,8 +1,9 @@
-"""``analyze`` on outside talkers (espeak-ng, flite, festival) in noise, with hum and tones.
+"""``analyze`` on outside talkers (espeak-ng, flite, festival, one human) in noise, with hum and tones.
 
 The talkers come from speech synthesizers the project does not own (Debian packages
-espeak-ng, flite, festival + festvox-kallpc16k); a missing program fails these tests, it
-does not skip them.  Truth: the filters' exact responses (scipy ``sosfreqz``) and the clean
+espeak-ng, flite, festival + festvox-kallpc16k) and from one human voice (the spoken
+channel names of Debian's alsa-utils); a missing program or recording fails these tests,
+it does not skip them.  Truth: the filters' exact responses (scipy ``sosfreqz``) and the clean
 speech's P.56 active level minus the added noise's RMS level (``tests/outside_speech.py``).
 The full sweep with error statistics is ``benchmarks/bench_edges.py``.
 """
@@ -42,6 +43,8 @@ def test_synthesizers_are_installed():
     ("espeak-ng:en+m3", 44100, 6.0, "white"),
     ("flite:awb", 16000, 0.0, "white"),
     ("espeak-ng:en-us", 8000, 40.0, "white"),
+    ("human:alsa-utils", 48000, 15.0, "white"),
+    ("human:alsa-utils", 16000, 8.0, "pink"),
 ])
 def test_snr_within_1_5_db_of_clean_p56_minus_noise(cache, talker, fs, snr, noise):
     # Issue 8 target: SNR within 1.5 dB from 6 to 30 dB SNR (and right from 0 to 40 dB); truth = clean P.56 level - noise RMS.
@@ -54,7 +57,7 @@ def test_snr_within_1_5_db_of_clean_p56_minus_noise(cache, talker, fs, snr, nois
     assert r.levels.active_level_dbfs is not None
 
 
-@pytest.mark.parametrize("talker, fs", [("espeak-ng:en-us", 16000), ("flite:awb", 48000)])
+@pytest.mark.parametrize("talker, fs", [("espeak-ng:en-us", 16000), ("flite:awb", 48000), ("human:alsa-utils", 16000)])
 def test_sii_never_rises_when_noise_is_added(cache, talker, fs):
     ch = osp.Channel("butter", 4, 300.0, 2700.0)
     values = []
@@ -83,6 +86,8 @@ def test_noise_alone_has_no_sii_number():
     ("flite:slt", 16000, osp.Channel("butter", 8, 300.0, 3000.0)),
     ("espeak-ng:en-us", 48000, osp.Channel("cheby1", 4, 250.0, 2700.0)),
     ("flite:rms", 44100, osp.Channel("butter", 6, 400.0, 2400.0)),
+    ("human:alsa-utils", 48000, osp.Channel("butter", 4, 300.0, 3000.0)),
+    ("human:alsa-utils", 8000, osp.Channel("cheby1", 4, 300.0, 3000.0)),
 ])
 def test_steep_edges_lie_inside_their_ranges(cache, talker, fs, ch):
     c = _case(cache, talker, fs, ch, snr_db=25.0)
